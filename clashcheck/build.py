@@ -1,0 +1,567 @@
+"""Build files: load, validate and resolve catalog references.
+
+A build file is TOML with tables ``[frame]`` (with ``[[frame.modes]]``),
+``[motor]``, ``[prop]``, ``[battery]`` and optional ``[sensor]``,
+``[flight]``, ``[check]`` (DESIGN.md, interface contract).  Physical values
+are strings with units; counts and ratios are bare numbers.  A part may name
+a catalog entry with ``catalog = "id"`` and override any of its fields.
+
+Units are checked here, once; everything this module returns holds plain SI
+floats.  Unknown keys are refused with a "did you mean" hint.  Nothing in a
+build file is evaluated as code.
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Any
+
+from . import _fields as f
+from .atmosphere import isa_density
+from .battery import PACK_STATES, Chemistry, Pack
+from .catalog import entry
+from .drive import Drive
+from .errors import InputError
+from .excitation import FAMILIES, Order, Sensor, build_orders
+from .modes import MODE_AXES, MODE_KINDS, POLICIES, MarginPolicy, Mode
+from .motor import Motor
+from .propeller import Propeller
+
+__all__ = [
+    "Flight",
+    "CheckSettings",
+    "Build",
+    "MeasuredModes",
+    "load_build",
+    "parse_build",
+    "load_modes_file",
+    "parse_mode",
+    "MAX_FILE_BYTES",
+]
+
+#: Largest build or modes file read [bytes].
+MAX_FILE_BYTES = 1_000_000
+
+_TOP_KEYS = ("name", "description", "frame", "motor", "prop", "battery", "sensor", "flight", "check")
+_FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description")
+_MODE_KEYS = (
+    "name", "frequency", "damping", "axis", "kind", "source",
+    "damping_low", "damping_high", "confidence", "method",
+)
+_MOTOR_KEYS = ("catalog", "kv", "poles", "slots", "resistance", "no_load_current", "mass", "stator", "description")
+_PROP_KEYS = (
+    "catalog", "diameter", "pitch", "blades", "thrust_coefficient", "power_coefficient", "mass", "description",
+)
+_BATTERY_KEYS = ("cells", "chemistry", "cell_resistance", "cell_full", "cell_nominal", "cell_empty")
+_CHEMISTRY_KEYS = ("description", "full", "nominal", "empty", "typical_cell_resistance", "source")
+_SENSOR_KEYS = ("sample_rate", "antialias_cutoff", "antialias_order")
+_FLIGHT_KEYS = ("idle", "max", "cruise", "hover", "altitude", "temperature_offset")
+_CHECK_KEYS = (
+    "policy", "margin", "default_damping", "pack_states", "families", "orders", "order_strengths", "weight_floor",
+)
+_ORDER_KEYS = ("order", "label", "weight")
+_STRENGTH_KEYS = ("order", "family", "relative_strength")
+_FRACTION = {"minimum": 0.0, "maximum": 1.0, "range_text": "from 0 % to 100 %"}
+
+
+@dataclass(frozen=True)
+class Flight:
+    """The flight envelope."""
+
+    #: Idle throttle [fraction].
+    idle: float = 0.04
+    #: Maximum throttle [fraction].
+    max: float = 1.0
+    #: Cruise throttle, the top of the operating band [fraction].
+    cruise: float = 0.6
+    #: Stated hover throttle [fraction]; ``None`` to compute it from C_T.
+    hover: float | None = None
+    #: Field altitude, geometric [m].
+    altitude_m: float = 0.0
+    #: ISA temperature offset [K].
+    temperature_offset_k: float = 0.0
+
+    def __post_init__(self) -> None:
+        for name in ("idle", "max", "cruise"):
+            value = getattr(self, name)
+            if not (math.isfinite(value) and 0.0 <= value <= 1.0):
+                raise InputError(f"flight.{name}", "a throttle from 0 % to 100 %", value)
+        if self.hover is not None and not (math.isfinite(self.hover) and 0.0 < self.hover <= 1.0):
+            raise InputError("flight.hover", "a throttle above 0 % and up to 100 %", self.hover)
+        if self.idle >= self.max:
+            raise InputError("flight.idle", f"an idle below max ({100 * self.max:g} %)", f"{100 * self.idle:g} %")
+        if self.idle > self.cruise:
+            raise InputError(
+                "flight.idle", f"an idle at or below cruise ({100 * self.cruise:g} %)", f"{100 * self.idle:g} %"
+            )
+        if self.cruise > self.max:
+            raise InputError(
+                "flight.cruise", f"a cruise at or below max ({100 * self.max:g} %)", f"{100 * self.cruise:g} %"
+            )
+
+
+@dataclass(frozen=True)
+class CheckSettings:
+    """How the check is run."""
+
+    #: Margin policy.
+    policy: MarginPolicy = field(default_factory=MarginPolicy)
+    #: Pack states to check.
+    pack_states: tuple[str, ...] = PACK_STATES
+    #: Order families to include.
+    families: tuple[str, ...] = FAMILIES
+    #: Extra orders: (order, label, weight).
+    custom_orders: tuple[tuple[float, str, float], ...] = ()
+    #: Measured order strengths: (order, family, relative strength).
+    order_strengths: tuple[tuple[float, str, float], ...] = ()
+    #: Aliased windows weaker than this (after the anti-alias filter) are left out.
+    weight_floor: float = 0.02
+
+
+@dataclass(frozen=True)
+class Build:
+    """One aircraft configuration, validated, in SI."""
+
+    #: Free-text name.
+    name: str
+    #: Motor count.
+    motors: int
+    #: All-up mass, pack included [kg].
+    mass_kg: float
+    #: Frame modes, after catalog and measured modes are merged.
+    modes: tuple[Mode, ...]
+    #: The motor.
+    motor: Motor
+    #: The propeller.
+    prop: Propeller
+    #: The pack.
+    pack: Pack
+    #: The flight envelope.
+    flight: Flight = field(default_factory=Flight)
+    #: How the check is run.
+    check: CheckSettings = field(default_factory=CheckSettings)
+    #: The flight sensor, when given.
+    sensor: Sensor | None = None
+    #: Arm geometry from ``[frame.arm]`` (see :mod:`clashcheck.arm`), when given.
+    arm: Any = None
+    #: The file it came from, when it came from one.
+    path: str | None = None
+    #: Facts about where the inputs came from, for the report.
+    notes: tuple[str, ...] = ()
+
+    def density_kg_m3(self) -> float:
+        """ISA air density at the field altitude [kg/m³]."""
+        return isa_density(self.flight.altitude_m, self.flight.temperature_offset_k)
+
+    def drive(self) -> Drive:
+        """The build's drive model."""
+        return Drive(self.motor, self.prop, self.pack, self.motors, self.density_kg_m3())
+
+    def orders(self) -> tuple[Order, ...]:
+        """The excitation orders the check considers."""
+        return build_orders(
+            self.motor, self.prop, self.check.families, self.check.custom_orders, self.check.order_strengths
+        )
+
+    def with_measured(self, measured: "MeasuredModes") -> "Build":
+        """This build with measured modes merged in.
+
+        A measured mode replaces a mode of the same name; the others are
+        added.  Measured order strengths replace the default weights.
+        """
+        names = {m.name for m in measured.modes}
+        modes = tuple(m for m in self.modes if m.name not in names) + measured.modes
+        strengths = measured.order_strengths or self.check.order_strengths
+        note = f"{len(measured.modes)} measured mode(s) merged from {measured.path}"
+        return replace(
+            self,
+            modes=modes,
+            check=replace(self.check, order_strengths=strengths),
+            notes=self.notes + (note,),
+        )
+
+
+@dataclass(frozen=True)
+class MeasuredModes:
+    """The content of a modes file (``clashcheck modes --output``)."""
+
+    #: Measured modes.
+    modes: tuple[Mode, ...]
+    #: Measured order strengths: (order, family, relative strength).
+    order_strengths: tuple[tuple[float, str, float], ...]
+    #: The file.
+    path: str
+
+
+def _read_toml(path: str | Path, what: str) -> dict[str, Any]:
+    p = Path(path)
+    try:
+        size = p.stat().st_size
+    except OSError as exc:
+        raise InputError(str(path), f"a readable {what}", exc.strerror or str(exc)) from None
+    if not p.is_file():
+        raise InputError(str(path), f"a {what} (a file)", "a folder" if p.is_dir() else "not a file")
+    if size > MAX_FILE_BYTES:
+        raise InputError(str(path), f"a {what} of at most {MAX_FILE_BYTES} bytes", f"{size} bytes")
+    data = p.read_bytes()
+    return _decode(data, str(path))
+
+
+def _decode(data: bytes, name: str) -> dict[str, Any]:
+    try:
+        textual = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise InputError(name, "UTF-8 text", f"byte 0x{data[exc.start]:02x} at offset {exc.start}") from None
+    try:
+        return tomllib.loads(textual)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(name, "valid TOML", str(exc)) from None
+    except RecursionError:
+        raise InputError(name, "valid TOML", "nesting too deep") from None
+
+
+def _merge_catalog(raw: dict[str, Any], kind: str, where: str, keys: tuple[str, ...]) -> dict[str, Any]:
+    f.check_keys(raw, keys, where)
+    if "catalog" not in raw:
+        return raw
+    base = entry(kind, raw["catalog"], f"{where}.catalog")
+    merged = {k: v for k, v in base.items() if k in keys}
+    merged.update({k: v for k, v in raw.items() if k != "catalog"})
+    return merged
+
+
+def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
+    """One ``[[frame.modes]]`` table → :class:`~clashcheck.modes.Mode`."""
+    f.check_keys(raw, _MODE_KEYS, where)
+    name = f.text(raw, "name", where, required=True)
+    assert name is not None
+    if not name.strip():
+        raise InputError(f"{where}.name", "a non-empty name", name)
+    freq = f.quantity(
+        raw, "frequency", where, "Hz", "212 Hz", required=True, minimum=0.0, exclusive_minimum=True,
+        maximum=1e5, range_text="above 0 Hz and up to 100 kHz",
+    )
+    assert freq is not None
+    damping = f.ratio(raw, "damping", where, low=0.0, high=1.0, what="a damping ratio")
+    details: dict[str, object] = {}
+    for key in ("damping_low", "damping_high"):
+        value = f.ratio(raw, key, where, low=0.0, high=1.0, what="a damping ratio")
+        if value is not None:
+            details[key] = value
+    confidence = f.ratio(raw, "confidence", where, low=0.0, high=1.0, open_low=False, open_high=False,
+                         what="a confidence")
+    if confidence is not None:
+        details["confidence"] = confidence
+    method = f.text(raw, "method", where)
+    if method is not None:
+        details["method"] = method
+    return Mode(
+        name=name,
+        frequency_hz=freq,
+        damping=damping,
+        axis=f.choice(raw, "axis", where, MODE_AXES, default="any") or "any",
+        kind=f.choice(raw, "kind", where, MODE_KINDS, default="other") or "other",
+        origin=origin,
+        source=f.text(raw, "source", where, default="") or "",
+        details=details,
+    )
+
+
+def _parse_modes(raws: list[dict[str, Any]], where: str, origin: str) -> list[Mode]:
+    modes = []
+    seen: set[str] = set()
+    for i, raw in enumerate(raws):
+        mode = parse_mode(raw, f"{where}[{i}]", origin)
+        if mode.name in seen:
+            raise InputError(f"{where}[{i}].name", "a mode name not used before", mode.name)
+        seen.add(mode.name)
+        modes.append(mode)
+    return modes
+
+
+def _parse_frame(raw: dict[str, Any]) -> tuple[int, float, list[Mode], dict[str, Any] | None]:
+    where = "frame"
+    f.check_keys(raw, _FRAME_KEYS, where)
+    catalog_modes: list[Mode] = []
+    merged = dict(raw)
+    if "catalog" in raw:
+        base = entry("frames", raw["catalog"], "frame.catalog")
+        catalog_modes = _parse_modes(f.tables(base, "modes", "frame"), f"frames[{raw['catalog']}].modes", "catalog")
+        for key in ("motors", "arm", "wheelbase"):
+            if key in base and key not in raw:
+                merged[key] = base[key]
+    motors = f.count(merged, "motors", where, minimum=1, maximum=16, required=True, what="a motor count")
+    mass = f.quantity(
+        merged, "mass", where, "kg", "720 g", required=True, minimum=0.0, exclusive_minimum=True,
+        maximum=1000.0, range_text="above 0 g and up to 1000 kg",
+    )
+    f.quantity(merged, "wheelbase", where, "m", "225 mm", minimum=0.0, exclusive_minimum=True, maximum=10.0,
+               range_text="above 0 mm and up to 10 m")
+    f.text(merged, "description", where)
+    own = _parse_modes(f.tables(merged, "modes", where), "frame.modes", "manual")
+    names = {m.name for m in own}
+    modes = [m for m in catalog_modes if m.name not in names] + own
+    arm = f.table(merged, "arm", where)
+    assert motors is not None and mass is not None
+    return motors, mass, modes, arm
+
+
+def _parse_motor(raw: dict[str, Any]) -> Motor:
+    where = "motor"
+    raw = _merge_catalog(raw, "motors", where, _MOTOR_KEYS)
+    kv = f.quantity(raw, "kv", where, "rpm/V", "1750 rpm/V", required=True, minimum=0.0, exclusive_minimum=True,
+                    maximum=100000 / 60, range_text="above 0 rpm/V and up to 100000 rpm/V")
+    poles = f.count(raw, "poles", where, minimum=2, maximum=120, required=True, what="an even pole count")
+    if poles is not None and poles % 2:
+        raise InputError("motor.poles", "an even pole count", poles)
+    slots = f.count(raw, "slots", where, minimum=3, maximum=360, required=True, what="a slot count")
+    if slots is not None and slots % 3:
+        raise InputError("motor.slots", "a slot count that is a multiple of 3", slots)
+    resistance = f.quantity(raw, "resistance", where, "ohm", "45 mohm", default=0.0, minimum=0.0,
+                            maximum=100.0, range_text="from 0 ohm to 100 ohm")
+    current = f.quantity(raw, "no_load_current", where, "A", "1.1 A", default=0.0, minimum=0.0, maximum=100.0,
+                         range_text="from 0 A to 100 A")
+    mass = f.quantity(raw, "mass", where, "kg", "33 g", minimum=0.0, exclusive_minimum=True, maximum=100.0,
+                      range_text="above 0 g and up to 100 kg")
+    f.text(raw, "stator", where)
+    f.text(raw, "description", where)
+    assert kv is not None and poles is not None and slots is not None
+    return Motor(kv, poles, slots, resistance or 0.0, current or 0.0, mass)
+
+
+def _parse_prop(raw: dict[str, Any]) -> Propeller:
+    where = "prop"
+    raw = _merge_catalog(raw, "props", where, _PROP_KEYS)
+    diameter = f.quantity(raw, "diameter", where, "m", "5.1 in", required=True, minimum=0.01, maximum=2.0,
+                          range_text="from 10 mm to 2 m")
+    pitch = f.quantity(raw, "pitch", where, "m", "4.0 in", minimum=0.0, exclusive_minimum=True, maximum=5.0,
+                       range_text="above 0 in and up to 5 m")
+    blades = f.count(raw, "blades", where, minimum=1, maximum=12, required=True, what="a blade count")
+    ct = f.ratio(raw, "thrust_coefficient", where, low=0.0, high=1.0, what="a static thrust coefficient")
+    cp = f.ratio(raw, "power_coefficient", where, low=0.0, high=1.0, what="a static power coefficient")
+    mass = f.quantity(raw, "mass", where, "kg", "4.6 g", minimum=0.0, exclusive_minimum=True, maximum=10.0,
+                      range_text="above 0 g and up to 10 kg")
+    f.text(raw, "description", where)
+    assert diameter is not None and blades is not None
+    return Propeller(diameter, blades, ct, cp, pitch, mass)
+
+
+def _parse_battery(raw: dict[str, Any]) -> Pack:
+    where = "battery"
+    f.check_keys(raw, _BATTERY_KEYS, where)
+    cells = f.count(raw, "cells", where, minimum=1, maximum=24, required=True, what="a cell count")
+    chem_id = f.text(raw, "chemistry", where, default="lipo")
+    base = entry("batteries", chem_id, "battery.chemistry")
+    f.check_keys(base, _CHEMISTRY_KEYS, f"batteries[{chem_id}]")
+    volts = {}
+    for state in PACK_STATES:
+        own_key = f"cell_{state}"
+        src, key, at = (raw, own_key, where) if own_key in raw else (base, state, f"batteries[{chem_id}]")
+        volts[state] = f.quantity(src, key, at, "V", "3.7 V", required=True, minimum=0.5, maximum=10.0,
+                                  range_text="from 0.5 V to 10 V")
+    if not volts["empty"] < volts["nominal"] < volts["full"]:
+        raise InputError("battery", "cell voltages with empty < nominal < full",
+                         f"{volts['empty']:g} / {volts['nominal']:g} / {volts['full']:g} V")
+    resistance = f.quantity(raw, "cell_resistance", where, "ohm", "3 mohm", default=0.0, minimum=0.0,
+                            maximum=10.0, range_text="from 0 ohm to 10 ohm")
+    assert cells is not None and chem_id is not None
+    chemistry = Chemistry(chem_id, volts["full"], volts["nominal"], volts["empty"],  # type: ignore[arg-type]
+                          str(base.get("source", "")))
+    return Pack(cells, chemistry, resistance or 0.0)
+
+
+def _parse_sensor(raw: dict[str, Any] | None) -> Sensor | None:
+    if raw is None:
+        return None
+    where = "sensor"
+    f.check_keys(raw, _SENSOR_KEYS, where)
+    rate = f.quantity(raw, "sample_rate", where, "Hz", "8 kHz", required=True, minimum=100.0, maximum=1e6,
+                      range_text="from 100 Hz to 1 MHz")
+    cutoff = f.quantity(raw, "antialias_cutoff", where, "Hz", "1 kHz", minimum=0.0, exclusive_minimum=True,
+                        maximum=1e6, range_text="above 0 Hz and up to 1 MHz")
+    order = f.count(raw, "antialias_order", where, minimum=1, maximum=8, default=2, what="a filter order")
+    assert rate is not None and order is not None
+    return Sensor(rate, cutoff, order)
+
+
+def _parse_flight(raw: dict[str, Any] | None) -> tuple[Flight, list[str]]:
+    raw = raw or {}
+    where = "flight"
+    f.check_keys(raw, _FLIGHT_KEYS, where)
+    notes = []
+    defaults = Flight()
+    values: dict[str, Any] = {}
+    for key, default_value in (("idle", defaults.idle), ("max", defaults.max), ("cruise", defaults.cruise)):
+        value = f.quantity(raw, key, where, "%", "35 %", **_FRACTION)  # type: ignore[arg-type]
+        if value is None:
+            value = default_value
+            notes.append(f"flight.{key} not given: {100 * default_value:g} % assumed")
+        values[key] = value
+    hover = f.quantity(raw, "hover", where, "%", "35 %", minimum=0.0, exclusive_minimum=True, maximum=1.0,
+                       range_text="above 0 % and up to 100 %")
+    altitude = f.quantity(raw, "altitude", where, "m", "350 m", default=0.0, minimum=-500.0, maximum=11000.0,
+                          range_text="from -500 m to 11000 m")
+    offset = f.quantity(raw, "temperature_offset", where, "K", "10 K", default=0.0, minimum=-80.0, maximum=60.0,
+                        range_text="from -80 K to 60 K")
+    return Flight(values["idle"], values["max"], values["cruise"], hover, altitude or 0.0, offset or 0.0), notes
+
+
+def _parse_strengths(raws: list[dict[str, Any]], where: str) -> tuple[tuple[float, str, float], ...]:
+    out = []
+    for i, raw in enumerate(raws):
+        at = f"{where}[{i}]"
+        f.check_keys(raw, _STRENGTH_KEYS, at)
+        order = f.ratio(raw, "order", at, low=0.0, high=10000.0, open_high=False, required=True, what="an order")
+        family = f.choice(raw, "family", at, FAMILIES + ("custom",), required=True)
+        strength = f.ratio(raw, "relative_strength", at, low=0.0, high=1e6, open_low=False, required=True,
+                           what="a relative strength")
+        assert order is not None and family is not None and strength is not None
+        out.append((order, family, strength))
+    return tuple(out)
+
+
+def _parse_check(raw: dict[str, Any] | None) -> CheckSettings:
+    raw = raw or {}
+    where = "check"
+    f.check_keys(raw, _CHECK_KEYS, where)
+    policy_name = f.choice(raw, "policy", where, POLICIES, default="damping")
+    margin = f.quantity(raw, "margin", where, "%", "10 %", minimum=0.0, exclusive_minimum=True, maximum=0.99,
+                        range_text="above 0 % and below 100 %")
+    if margin is not None and policy_name != "fixed":
+        raise InputError("check.margin", "no margin unless policy = 'fixed'", raw["margin"])
+    damping = f.ratio(raw, "default_damping", where, low=0.0, high=1.0, default=0.03, what="a damping ratio")
+    assert policy_name is not None and damping is not None
+    policy = MarginPolicy(policy_name, margin, damping)
+    states = f.choices(raw, "pack_states", where, PACK_STATES, default=PACK_STATES)
+    if not states:
+        raise InputError("check.pack_states", "at least one of " + ", ".join(PACK_STATES), [])
+    families = f.choices(raw, "families", where, FAMILIES, default=FAMILIES)
+    custom = []
+    for i, order_raw in enumerate(f.tables(raw, "orders", where)):
+        at = f"check.orders[{i}]"
+        f.check_keys(order_raw, _ORDER_KEYS, at)
+        number = f.ratio(order_raw, "order", at, low=0.0, high=10000.0, open_high=False, required=True,
+                         what="an order (multiple of rotor rate)")
+        label = f.text(order_raw, "label", at, default="", max_length=60) or ""
+        weight = f.ratio(order_raw, "weight", at, low=0.0, high=1e6, open_low=False, default=0.5, what="a weight")
+        assert number is not None and weight is not None
+        custom.append((number, label, weight))
+    if not families and not custom:
+        raise InputError("check.families", "at least one family or a [[check.orders]] entry", [])
+    strengths = _parse_strengths(f.tables(raw, "order_strengths", where), "check.order_strengths")
+    floor = f.ratio(raw, "weight_floor", where, low=0.0, high=1.0, open_low=False, default=0.02,
+                    what="a weight floor")
+    assert floor is not None
+    return CheckSettings(policy, states, families, tuple(custom), strengths, floor)
+
+
+def parse_build(data: dict[str, Any], *, path: str | None = None) -> Build:
+    """Validate a decoded build file and resolve its catalog references.
+
+    Parameters
+    ----------
+    data : dict
+        The decoded TOML document.
+    path : str, optional
+        Where it came from, for the report and the default name.
+
+    Returns
+    -------
+    Build
+
+    Raises
+    ------
+    InputError
+        For any missing, malformed, unknown or out-of-range value.
+    """
+    f.check_keys(data, _TOP_KEYS, "")
+    default_name = Path(path).stem if path else "build"
+    name = f.text(data, "name", "", default=default_name) or default_name
+    f.text(data, "description", "", max_length=2000)
+    frame = f.table(data, "frame", "", required=True)
+    motors, mass, modes, arm_raw = _parse_frame(frame)  # type: ignore[arg-type]
+    motor = _parse_motor(f.table(data, "motor", "", required=True))  # type: ignore[arg-type]
+    prop = _parse_prop(f.table(data, "prop", "", required=True))  # type: ignore[arg-type]
+    pack = _parse_battery(f.table(data, "battery", "", required=True))  # type: ignore[arg-type]
+    sensor = _parse_sensor(f.table(data, "sensor", ""))
+    flight, notes = _parse_flight(f.table(data, "flight", ""))
+    check = _parse_check(f.table(data, "check", ""))
+    arm = None
+    if arm_raw is not None:
+        from . import arm as arm_module
+
+        arm = arm_module.parse_arm_table(
+            arm_raw, field="frame.arm", motor_mass_kg=motor.mass_kg, prop_mass_kg=prop.mass_kg
+        )
+        measured_names = {m.name for m in modes}
+        estimated = arm_module.estimated_modes(arm_module.estimate_arm(arm))
+        modes = modes + [m for m in estimated if m.name not in measured_names]
+    if not modes:
+        raise InputError("frame.modes", "at least one [[frame.modes]] entry, a frame catalog or [frame.arm]", [])
+    return Build(
+        name=name,
+        motors=motors,
+        mass_kg=mass,
+        modes=tuple(modes),
+        motor=motor,
+        prop=prop,
+        pack=pack,
+        flight=flight,
+        check=check,
+        sensor=sensor,
+        arm=arm,
+        path=path,
+        notes=tuple(notes),
+    )
+
+
+def load_build(path: str | Path) -> Build:
+    """Read and validate a build file.
+
+    Examples
+    --------
+    >>> import pathlib, tempfile
+    >>> text = '''
+    ... [frame]
+    ... motors = 4
+    ... mass = "720 g"
+    ... [[frame.modes]]
+    ... name = "arm flap"
+    ... frequency = "212 Hz"
+    ... [motor]
+    ... kv = "1750 rpm/V"
+    ... poles = 14
+    ... slots = 12
+    ... [prop]
+    ... diameter = "5.1 in"
+    ... blades = 3
+    ... [battery]
+    ... cells = 6
+    ... '''
+    >>> with tempfile.TemporaryDirectory() as d:
+    ...     p = pathlib.Path(d, "quad.toml"); _ = p.write_text(text)
+    ...     build = load_build(p)
+    >>> round(build.motor.kv_hz_per_v, 4), build.pack.voltage("full")
+    (29.1667, 25.200000000000003)
+    """
+    return parse_build(_read_toml(path, "build file"), path=str(path))
+
+
+def load_modes_file(path: str | Path) -> MeasuredModes:
+    """Read a modes file: ``[[frame.modes]]`` and optional ``[[order_strengths]]``.
+
+    Modes from such a file are marked ``measured``.
+    """
+    data = _read_toml(path, "modes file")
+    f.check_keys(data, ("frame", "order_strengths", "name"), "")
+    frame = f.table(data, "frame", "", required=True)
+    assert frame is not None
+    f.check_keys(frame, ("modes",), "frame")
+    modes = _parse_modes(f.tables(frame, "modes", "frame"), "frame.modes", "measured")
+    if not modes:
+        raise InputError(f"{path}: frame.modes", "at least one [[frame.modes]] entry", [])
+    strengths = _parse_strengths(f.tables(data, "order_strengths", ""), "order_strengths")
+    return MeasuredModes(tuple(modes), strengths, str(path))

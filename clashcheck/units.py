@@ -1,0 +1,353 @@
+"""Units at the boundary: the one pint registry and the value parser.
+
+Every physical value that enters clashcheck as text passes through
+:func:`parse`, which checks the text's form, checks its dimension against the
+unit the field expects, and returns a plain float in SI base units.  Nothing
+below the build loader sees pint.
+
+Rotation rates
+--------------
+pint counts the radian as dimensionless, so plain pint converts ``60 rpm`` to
+6.28 Hz.  Here a revolution is one cycle: ``rpm`` means revolutions (cycles)
+per minute and ``60 rpm`` is exactly 1 Hz; ``rad/s`` is divided by 2π.
+:func:`rpm_to_hz` and friends are the only rpm ↔ Hz conversions in the code.
+
+Speed
+-----
+Importing pint and building a registry costs several tenths of a second, more
+than the rest of a ``check`` run.  The registry is therefore built lazily, and
+each unit expression's conversion (factor to SI and dimension) is remembered in
+a small JSON file in the user's cache folder.  A later run that meets only
+known expressions never imports pint.  Set ``CLASHCHECK_CACHE_DIR`` to move the
+file, or to an empty string to turn the file off.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import re
+import tempfile
+from functools import cache
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from .errors import MISSING, InputError
+
+__all__ = [
+    "parse",
+    "parse_optional",
+    "conversion",
+    "registry",
+    "rpm_to_hz",
+    "hz_to_rpm",
+    "rad_s_to_hz",
+    "hz_to_rad_s",
+    "to_unit",
+    "TWO_PI",
+]
+
+TWO_PI = 2.0 * math.pi
+
+# A value string: a plain decimal number, optionally followed by a unit
+# expression made of names, '*', '/', '^' or '**' with a one-digit exponent,
+# and parentheses-free.  Anything else (nested powers, calls, brackets) is
+# refused before pint sees it, so no input can make pint compute for long.
+_NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?"
+_NAME = r"(?:%|[A-Za-zµμΩ°][A-Za-z0-9_µμΩ°]*)"
+_POWER = r"(?:\s*(?:\^|\*\*)\s*-?[1-4])?"
+_FACTOR = _NAME + _POWER
+_UNIT_EXPR = _FACTOR + r"(?:\s*[*/]\s*" + _FACTOR + r"|\s+" + _FACTOR + r")*"
+_VALUE_RE = re.compile(r"\s*(" + _NUMBER + r")\s*(" + _UNIT_EXPR + r")?\s*")
+_UNIT_RE = re.compile(r"\s*(" + _UNIT_EXPR + r")\s*")
+_TOKEN_RE = re.compile(_NAME)
+_MAX_TEXT = 64
+
+# Rotation is counted in cycles.  These names are rewritten before pint parses
+# the expression, so pint's dimensionless radian never enters a rotation rate.
+_REWRITE = {
+    "rpm": "(1 / minute)",
+    "RPM": "(1 / minute)",
+    "krpm": "(1000 / minute)",
+    "rps": "(1 / second)",
+    "rev": "1",
+    "revs": "1",
+    "revolution": "1",
+    "revolutions": "1",
+    "turn": "1",
+    "turns": "1",
+    "cycle": "1",
+    "cycles": "1",
+    "rad": f"({1.0 / TWO_PI!r})",
+    "radian": f"({1.0 / TWO_PI!r})",
+    "radians": f"({1.0 / TWO_PI!r})",
+    "%": "percent",
+    "Ω": "ohm",
+    "mΩ": "milliohm",
+    "kΩ": "kiloohm",
+    "µs": "microsecond",
+    "μs": "microsecond",
+}
+
+_CACHE_NAME = "units-v1.json"
+_CACHE_LIMIT = 512
+_memo: dict[str, tuple[float, str]] = {}
+_memo_loaded = False
+_memo_dirty = False
+
+
+def rpm_to_hz(rpm: Any) -> Any:
+    """Revolutions per minute to revolutions per second (Hz).
+
+    Examples
+    --------
+    >>> rpm_to_hz(60.0)
+    1.0
+    """
+    return np.asarray(rpm, dtype=float) / 60.0 if np.ndim(rpm) else float(rpm) / 60.0
+
+
+def hz_to_rpm(hz: Any) -> Any:
+    """Revolutions per second (Hz) to revolutions per minute.
+
+    Examples
+    --------
+    >>> hz_to_rpm(1.0)
+    60.0
+    """
+    return np.asarray(hz, dtype=float) * 60.0 if np.ndim(hz) else float(hz) * 60.0
+
+
+def rad_s_to_hz(omega_rad_s: Any) -> Any:
+    """Angular speed in rad/s to revolutions per second (Hz)."""
+    return np.asarray(omega_rad_s, dtype=float) / TWO_PI
+
+
+def hz_to_rad_s(freq_hz: Any) -> Any:
+    """Revolutions per second (Hz) to angular speed in rad/s."""
+    return np.asarray(freq_hz, dtype=float) * TWO_PI
+
+
+@cache
+def registry() -> Any:
+    """The one pint registry, built on first use.
+
+    Returns
+    -------
+    pint.UnitRegistry
+    """
+    import pint
+
+    folder = _cache_dir()
+    kwargs: dict[str, Any] = {}
+    if folder is not None:
+        kwargs["cache_folder"] = folder / "pint"
+    try:
+        return pint.UnitRegistry(**kwargs)
+    except OSError:  # unwritable cache folder: build without it
+        return pint.UnitRegistry()
+
+
+def _cache_dir() -> Path | None:
+    env = os.environ.get("CLASHCHECK_CACHE_DIR")
+    if env is not None:
+        return Path(env) if env.strip() else None
+    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    return Path(base) / "clashcheck"
+
+
+def _load_memo() -> None:
+    global _memo_loaded
+    _memo_loaded = True
+    folder = _cache_dir()
+    if folder is None:
+        return
+    try:
+        data = json.loads((folder / _CACHE_NAME).read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return
+    if isinstance(data, dict):
+        for key, val in data.items():
+            if (
+                isinstance(key, str)
+                and isinstance(val, list)
+                and len(val) == 2
+                and isinstance(val[0], float)
+                and isinstance(val[1], str)
+            ):
+                _memo[key] = (val[0], val[1])
+
+
+def _save_memo() -> None:
+    """Write the conversion memo atomically; failures are silent (it is a cache)."""
+    global _memo_dirty
+    folder = _cache_dir()
+    if folder is None or not _memo_dirty:
+        return
+    _memo_dirty = False
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+        items = dict(list(_memo.items())[-_CACHE_LIMIT:])
+        fd, tmp = tempfile.mkstemp(dir=folder, prefix=".units-", suffix=".tmp")
+        with os.fdopen(fd, "w", encoding="utf-8") as fh:
+            json.dump({k: list(v) for k, v in items.items()}, fh)
+        os.replace(tmp, folder / _CACHE_NAME)
+    except OSError:
+        pass
+
+
+def _rewrite(expr: str) -> str:
+    return _TOKEN_RE.sub(lambda m: _REWRITE.get(m.group(0), m.group(0)), expr)
+
+
+def conversion(unit: str) -> tuple[float, str]:
+    """Factor to SI base units and dimension of a unit expression.
+
+    Parameters
+    ----------
+    unit : str
+        A unit expression such as ``"rpm/V"`` or ``"mohm"``.  Must already
+        have the form checked by :func:`parse`.
+
+    Returns
+    -------
+    factor : float
+        Multiply a magnitude in ``unit`` by this to get SI base units
+        (rotation counted in cycles).
+    dimension : str
+        pint's dimensionality of the unit, as text, e.g. ``"1 / [time]"``.
+
+    Raises
+    ------
+    KeyError
+        If pint does not know a name in the expression.
+    ValueError
+        If the unit carries an offset (such as degC).
+    """
+    if not _memo_loaded:
+        _load_memo()
+    key = _rewrite(unit.strip())
+    hit = _memo.get(key)
+    if hit is not None:
+        return hit
+    ureg = registry()
+    import pint
+
+    try:
+        parsed = ureg.parse_expression(key)
+        if not isinstance(parsed, ureg.Quantity):
+            parsed = ureg.Quantity(float(parsed))
+        scale = float(parsed.magnitude)
+        one = ureg.Quantity(1.0, parsed.units).to_base_units()
+        zero = ureg.Quantity(0.0, parsed.units).to_base_units()
+    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, AttributeError,
+            TypeError, SyntaxError) as exc:
+        raise KeyError(unit) from exc
+    except pint.errors.OffsetUnitCalculusError as exc:
+        raise ValueError(f"offset unit {unit!r}") from exc
+    if float(zero.magnitude) != 0.0:
+        raise ValueError(f"offset unit {unit!r}")
+    result = (scale * float(one.magnitude), str(one.dimensionality))
+    global _memo_dirty
+    _memo[key] = result
+    _memo_dirty = True
+    _save_memo()
+    return result
+
+
+def parse(text: object, unit: str, field: str, *, example: str | None = None) -> float:
+    """Parse a value string with units into a float in SI base units.
+
+    Parameters
+    ----------
+    text : str
+        The value as written, e.g. ``"1750 rpm/V"``.
+    unit : str
+        The unit the field is expressed in, e.g. ``"rpm/V"``; the value must
+        have the same dimension.
+    field : str
+        Dotted path for error messages, e.g. ``"motor.kv"``.
+    example : str, optional
+        An example value for the error message; defaults to ``"1 <unit>"``.
+
+    Returns
+    -------
+    float
+        The value in SI base units, with rotation counted in cycles
+        (``"1750 rpm/V"`` → 29.1667, in Hz per volt).
+
+    Raises
+    ------
+    InputError
+        If the text is not a string, has the wrong form, names an unknown
+        unit, has the wrong dimension, or is not finite.
+
+    Examples
+    --------
+    >>> parse("1950 rpm/V", "rpm/V", "motor.kv")
+    32.5
+    >>> parse("5 in", "m", "prop.diameter")
+    0.127
+    """
+    sample = example or f"1 {unit}"
+    expected = f"a value in {unit} like {sample!r}"
+    if text is MISSING or text is None:
+        raise InputError(field, expected, MISSING)
+    if isinstance(text, bool) or not isinstance(text, str):
+        if isinstance(text, (int, float)):
+            raise InputError(field, expected, text, "write the unit in a string")
+        raise InputError(field, expected, text)
+    if len(text) > _MAX_TEXT:
+        raise InputError(field, expected, text, f"value strings are at most {_MAX_TEXT} characters")
+    match = _VALUE_RE.fullmatch(text)
+    if match is None:
+        raise InputError(field, expected, text, "write a number, a space and a unit")
+    number_text, unit_text = match.group(1), match.group(2)
+    magnitude = float(number_text)
+    if not math.isfinite(magnitude):
+        raise InputError(field, expected, text, "the number is not finite")
+    target_dim = conversion(unit)[1]
+    if unit_text is None:
+        if target_dim != "dimensionless":
+            raise InputError(field, expected, text, "the unit is missing")
+        factor, dim = 1.0, "dimensionless"
+    else:
+        try:
+            factor, dim = conversion(unit_text)
+        except KeyError:
+            raise InputError(field, expected, text, "unknown unit") from None
+        except ValueError:
+            raise InputError(
+                field, expected, text, "offset units are refused; give a difference in K"
+            ) from None
+    if dim != target_dim:
+        raise InputError(field, expected, text, f"its dimension is {dim}")
+    value = magnitude * factor
+    if not math.isfinite(value):
+        raise InputError(field, expected, text, "the value is not finite")
+    return value
+
+
+def parse_optional(
+    text: object, unit: str, field: str, *, example: str | None = None
+) -> float | None:
+    """Like :func:`parse`, but ``None`` (or :data:`~clashcheck.errors.MISSING`) passes through."""
+    if text is None or text is MISSING:
+        return None
+    return parse(text, unit, field, example=example)
+
+
+def to_unit(value_si: float, unit: str) -> float:
+    """Express an SI value in ``unit`` (the inverse of :func:`parse`'s scaling).
+
+    Examples
+    --------
+    >>> round(to_unit(0.127, "in"), 6)
+    5.0
+    """
+    factor, _dim = conversion(unit)
+    return value_si / factor
+
