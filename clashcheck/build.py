@@ -398,7 +398,8 @@ def _parse_flight(raw: dict[str, Any] | None) -> tuple[Flight, list[str]]:
         value = f.quantity(raw, key, where, "%", "35 %", **_FRACTION)  # type: ignore[arg-type]
         if value is None:
             value = default_value
-            notes.append(f"flight.{key} not given: {100 * default_value:g} % assumed")
+            if key != "max":
+                notes.append(f"flight.{key} not given: {100 * default_value:g} % assumed")
         values[key] = value
     hover = f.quantity(raw, "hover", where, "%", "35 %", minimum=0.0, exclusive_minimum=True, maximum=1.0,
                        range_text="above 0 % and up to 100 %")

@@ -237,10 +237,19 @@ _MODE_HEADERS = ["mode", "f (Hz)", "ζ", "AF", "required", "worst margin at hove
 _RANGE_HEADERS = ["mode", "throttle", "orders responsible", "pack states", "operating band"]
 
 
-def _range_rows(result: ClashResult) -> list[list[str]]:
+def _range_rows(result: ClashResult) -> tuple[list[list[str]], int]:
+    """Danger-range rows for the table, and how many aliased-only slivers were folded away.
+
+    Ranges made only of aliased windows outside the operating band are counted
+    rather than listed (the JSON lists every window).
+    """
     rows = []
+    hidden = 0
     for mr in result.modes:
         for r in mr.danger_ranges:
+            if not r.touches_operating_band and all(o.endswith("(aliased)") for o in r.orders):
+                hidden += 1
+                continue
             rows.append([
                 r.mode,
                 f"{pct(r.throttle_low)}–{pct(r.throttle_high)}",
@@ -248,7 +257,14 @@ def _range_rows(result: ClashResult) -> list[list[str]]:
                 ", ".join(r.pack_states),
                 "TOUCHES" if r.touches_operating_band else "outside",
             ])
-    return rows
+    return rows, hidden
+
+
+def _hidden_line(hidden: int) -> str:
+    return (
+        f"{hidden} more range(s) made only of aliased orders lie outside the operating band; "
+        "--format json lists every window."
+    )
 
 
 def _verdict_line(result: ClashResult) -> str:
@@ -268,12 +284,14 @@ def render_table(result: ClashResult) -> str:
     parts = [f"clashcheck: {result.name}", ""]
     parts.append(tabulate(_header_rows(result), tablefmt="plain"))
     parts += ["", "Modes", tabulate(_mode_rows(result), headers=_MODE_HEADERS, tablefmt="simple")]
-    ranges = _range_rows(result)
+    ranges, hidden = _range_rows(result)
     parts.append("")
     if ranges:
         parts += ["Danger ranges", tabulate(ranges, headers=_RANGE_HEADERS, tablefmt="simple")]
-    else:
+    elif not hidden:
         parts.append("Danger ranges: none between idle and max throttle")
+    if hidden:
+        parts.append(_hidden_line(hidden))
     if result.notes:
         parts += ["", "Notes"] + [f"  - {n}" for n in result.notes]
     parts += ["", _verdict_line(result), ""] + [f"  ! {c}" for c in CAUTIONS]
@@ -289,12 +307,14 @@ def render_markdown(result: ClashResult) -> str:
     if result.notes:
         parts += [""] + [f"- {n}" for n in result.notes]
     parts += ["", "## Modes", "", tabulate(_mode_rows(result), headers=_MODE_HEADERS, tablefmt="github")]
-    ranges = _range_rows(result)
+    ranges, hidden = _range_rows(result)
     parts += ["", "## Danger ranges", ""]
     if ranges:
         parts.append(tabulate(ranges, headers=_RANGE_HEADERS, tablefmt="github"))
-    else:
+    elif not hidden:
         parts.append("None between idle and max throttle.")
+    if hidden:
+        parts += ["", _hidden_line(hidden)]
     parts += ["", "## Safety", ""] + [f"- {c}" for c in CAUTIONS]
     return "\n".join(parts) + "\n"
 
