@@ -77,7 +77,6 @@ from __future__ import annotations
 
 import difflib
 import math
-import re
 from dataclasses import dataclass, field
 from functools import cache
 from typing import Any
@@ -958,19 +957,9 @@ def material(material_id: object, field: str = "material") -> Material:
     return _material_catalog()[material_id]
 
 
-_ANGLE_RE = re.compile(r"/\s*rad(?:ians?)?\b")
-
-
 def _parse_clamp_stiffness(text: object, field_name: str) -> float:
-    """Rotational stiffness in N·m per radian.
-
-    The unit parser counts a radian as 1/(2π) of a cycle, so the text must say
-    ``/rad`` explicitly and the parsed per-cycle value is divided by 2π.
-    """
-    expected = "a rotational stiffness like '150 N*m/rad'"
-    if isinstance(text, str) and not _ANGLE_RE.search(text):
-        raise InputError(field_name, expected, text, "write the angle unit as '/rad'")
-    return units.parse(text, "N*m/rad", field_name, example="150 N*m/rad") / units.TWO_PI
+    """Rotational stiffness in N·m per radian (a radian counts as 1, as in SI)."""
+    return units.parse(text, "N*m/rad", field_name, example="150 N*m/rad")
 
 
 def _parse_factor(value: object, field_name: str) -> float:
