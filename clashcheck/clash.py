@@ -337,35 +337,47 @@ def find_windows(
 
     hover = band.hover
     hover_known = not math.isnan(hover.rotor_hz) and hover.can_hover
+    true_rotor_hz = np.array(
+        [[f_a, f_b, math.nan if f_nom is None else f_nom] for _, f_a, f_b, f_nom in images]
+    ) / n
+    d = drive.throttle_at(true_rotor_hz, state)
+    lows = np.maximum(d[:, 0], idle)
+    highs = np.minimum(d[:, 1], throttle_max)
+    if not np.any(lows < highs):
+        return []
+    f_edges = n * drive.rotor_hz(np.stack([lows, np.maximum(lows, highs)], axis=-1), state)
+
+    # Margin at hover and across the band: one figure for the direct line and
+    # one for its fold, shared by every image of the same kind.
+    seen: dict[bool, tuple[float | None, float | None, float | None]] = {}
+
+    def margins(aliased: bool) -> tuple[float | None, float | None, float | None]:
+        if aliased not in seen:
+            margin_hover = mag = worst = None
+            if hover_known:
+                f_hover = n * hover.rotor_hz
+                f_seen = fold(f_hover, sensor.sample_rate_hz) if aliased and sensor else f_hover
+                margin_hover = float(relative_margin(f_seen, mode))
+                mag = float(magnification(f_seen / mode.frequency_hz, zeta))
+            if band.flies:
+                f_band = n * drive.rotor_hz(np.array([band.throttle_low, band.throttle_high]), state)
+                pieces = _apparent_range(float(f_band[0]), float(f_band[1]), sensor if aliased else None)
+                worst = _min_margin(pieces, mode)
+            seen[aliased] = (margin_hover, mag, worst)
+        return seen[aliased]
+
     out = []
-    for zone, f_a, f_b, f_nom in images:
-        d_a, d_b = drive.throttle_at(np.array([f_a, f_b]) / n, state)
-        low, high = max(float(d_a), idle), min(float(d_b), throttle_max)
+    for i, (zone, f_a, f_b, _f_nom) in enumerate(images):
+        low, high = float(lows[i]), float(highs[i])
         if not low < high:
             continue
-        crossing = None
-        if f_nom is not None:
-            d_c = float(drive.throttle_at(f_nom / n, state))
-            if idle <= d_c <= throttle_max:
-                crossing = d_c
-        f_hover = n * hover.rotor_hz
-        if hover_known:
-            f_seen = fold(f_hover, sensor.sample_rate_hz) if zone else f_hover
-            margin_hover = float(relative_margin(f_seen, mode))
-            mag = float(magnification(f_seen / mode.frequency_hz, zeta))
-        else:
-            margin_hover = mag = None
-        touches = False
-        worst = None
-        if band.flies:
-            touches = low <= band.throttle_high and band.throttle_low <= high
-            f_band = n * drive.rotor_hz(np.array([band.throttle_low, band.throttle_high]), state)
-            pieces = _apparent_range(float(f_band[0]), float(f_band[1]), sensor if zone else None)
-            worst = _min_margin(pieces, mode)
+        d_c = float(d[i, 2])
+        crossing = d_c if idle <= d_c <= throttle_max else None
+        margin_hover, mag, worst = margins(bool(zone))
+        touches = band.flies and low <= band.throttle_high and band.throttle_low <= high
         weight = order.weight
         if zone and sensor is not None:
             weight *= float(sensor.gain(0.5 * (f_a + f_b)))
-        f_edges = n * drive.rotor_hz(np.array([low, high]), state)
         out.append(
             Window(
                 mode=mode.name,
@@ -382,11 +394,11 @@ def find_windows(
                 magnification_at_hover=mag,
                 aliased=bool(zone),
                 nyquist_zone=zone,
-                touches_operating_band=touches,
+                touches_operating_band=bool(touches),
                 weight=weight,
                 severity=weight * af,
-                excitation_low_hz=float(f_edges[0]),
-                excitation_high_hz=float(f_edges[1]),
+                excitation_low_hz=float(f_edges[i, 0]),
+                excitation_high_hz=float(f_edges[i, 1]),
             )
         )
     return out

@@ -161,6 +161,8 @@ def fold(freq_hz, sample_rate_hz: float):
     >>> float(fold(1400.0, 1000.0))
     400.0
     """
+    if isinstance(freq_hz, (float, int)):  # scalar fast path, same rounding as numpy (half to even)
+        return abs(freq_hz - sample_rate_hz * round(freq_hz / sample_rate_hz))
     f = np.asarray(freq_hz, dtype=float)
     out = np.abs(f - sample_rate_hz * np.round(f / sample_rate_hz))
     return float(out) if out.ndim == 0 else out

@@ -9,7 +9,9 @@ Rotation rates
 --------------
 pint counts the radian as dimensionless, so plain pint converts ``60 rpm`` to
 6.28 Hz.  Here a revolution is one cycle: ``rpm`` means revolutions (cycles)
-per minute and ``60 rpm`` is exactly 1 Hz; ``rad/s`` is divided by 2π.
+per minute and ``60 rpm`` is exactly 1 Hz.  A radian stays pint's plain 1 (right
+for a stiffness in N·m/rad), so a radian in a rate field such as ``rad/s`` for a
+rotor rate is refused with a hint rather than read 2π wrong.
 :func:`rpm_to_hz` and friends are the only rpm ↔ Hz conversions in the code.
 
 Speed
@@ -64,6 +66,7 @@ _UNIT_EXPR = _FACTOR + r"(?:\s*[*/]\s*" + _FACTOR + r"|\s+" + _FACTOR + r")*"
 _VALUE_RE = re.compile(r"\s*(" + _NUMBER + r")\s*(" + _UNIT_EXPR + r")?\s*")
 _UNIT_RE = re.compile(r"\s*(" + _UNIT_EXPR + r")\s*")
 _TOKEN_RE = re.compile(_NAME)
+_RADIAN_NAMES = frozenset({"rad", "radian", "radians"})
 _MAX_TEXT = 64
 
 # Rotation is counted in cycles.  These names are rewritten before pint parses
@@ -81,9 +84,6 @@ _REWRITE = {
     "turns": "1",
     "cycle": "1",
     "cycles": "1",
-    "rad": f"({1.0 / TWO_PI!r})",
-    "radian": f"({1.0 / TWO_PI!r})",
-    "radians": f"({1.0 / TWO_PI!r})",
     "%": "percent",
     "Ω": "ohm",
     "mΩ": "milliohm",
@@ -325,6 +325,10 @@ def parse(text: object, unit: str, field: str, *, example: str | None = None) ->
             ) from None
     if dim != target_dim:
         raise InputError(field, expected, text, f"its dimension is {dim}")
+    if unit_text is not None and "[time]" in target_dim:
+        own = set(_TOKEN_RE.findall(unit_text)) & _RADIAN_NAMES
+        if own and not set(_TOKEN_RE.findall(unit)) & _RADIAN_NAMES:
+            raise InputError(field, expected, text, "give rotation rates in rpm or Hz, not radians")
     value = magnitude * factor
     if not math.isfinite(value):
         raise InputError(field, expected, text, "the value is not finite")
