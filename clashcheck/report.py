@@ -218,22 +218,30 @@ def _mode_rows(result: ClashResult) -> list[list[str]]:
         freq = f"{m.frequency_hz:.0f}" if not m.is_range else (
             f"{m.frequency_hz:.0f} ({m.frequency_low_hz:.0f}–{m.frequency_high_hz:.0f})"
         )
-        hover = [x for x in mr.margins if x.point == "hover"]
-        worst = min(hover, key=lambda x: x.margin) if hover else None
+        rows_at = []
+        for point in ("hover", "cruise"):
+            at = [x for x in mr.margins if x.point == point]
+            worst = min(at, key=lambda x: x.margin) if at else None
+            rows_at.append("-" if worst is None else (
+                f"{pct(worst.margin, 1)} {worst.label}{' (aliased)' if worst.aliased else ''} "
+                f"({worst.pack_state}){'' if worst.enough else ' SHORT'}"
+            ))
         rows.append([
             m.name,
             freq,
             f"{mr.damping:.3f}" + (" (assumed)" if mr.damping_assumed else ""),
             f"{mr.amplification_factor:.1f}",
             pct(mr.required_margin, 1),
-            "-" if worst is None else f"{pct(worst.margin, 1)} {worst.label} ({worst.pack_state})",
+            *rows_at,
             m.origin,
             mr.verdict,
         ])
     return rows
 
 
-_MODE_HEADERS = ["mode", "f (Hz)", "ζ", "AF", "required", "worst margin at hover", "source", "verdict"]
+_MODE_HEADERS = [
+    "mode", "f (Hz)", "ζ", "AF", "required", "worst margin at hover", "worst margin at cruise", "source", "verdict",
+]
 _RANGE_HEADERS = ["mode", "throttle", "orders responsible", "pack states", "operating band"]
 
 
