@@ -146,9 +146,16 @@ _GROUND_NOTE = (
 # Result and input dataclasses
 
 
-def _check_positive(value: float, field_name: str, expected: str) -> None:
+def _check_positive(value: float, field_name: str, expected: str, *, length: bool = False) -> None:
     if not (isinstance(value, (int, float)) and math.isfinite(value) and value > 0):
-        raise InputError(field_name, expected, value)
+        raise InputError(field_name, expected, _shown(value) if length else value)
+
+
+def _shown(value_m: object) -> object:
+    """A length in metres as the text a user would write, for error messages."""
+    if isinstance(value_m, (int, float)) and math.isfinite(value_m):
+        return f"{value_m * 1e3:g} mm"
+    return value_m
 
 
 @dataclass(frozen=True)
@@ -250,7 +257,8 @@ class ArmGeometry:
 
     def __post_init__(self) -> None:
         w = self.where
-        _check_positive(self.length_m, f"{w}.length", "a free length above 0 m, like '110 mm'")
+        _check_positive(self.length_m, f"{w}.length", "a free length above 0 m, like '110 mm'",
+                        length=True)
         if not isinstance(self.material, Material):
             raise InputError(f"{w}.material", "a Material", self.material)
         if not (math.isfinite(self.tip_mass_kg) and self.tip_mass_kg >= 0):
@@ -275,7 +283,7 @@ class ArmGeometry:
             raise InputError(
                 f"{w}.length",
                 "a length larger than the section's size (a beam)",
-                self.length_m,
+                _shown(self.length_m),
                 f"the section is {depth * 1e3:g} mm deep",
             )
         if self.clamp_stiffness_n_m_per_rad is not None:
@@ -308,13 +316,13 @@ class ArmGeometry:
         for name, value in (("width", self.width_m), ("thickness", self.thickness_m)):
             if value is None:
                 raise InputError(f"{w}.{name}", f"a {name} like '5 mm'", MISSING)
-            _check_positive(value, f"{w}.{name}", f"a {name} above 0 m")
+            _check_positive(value, f"{w}.{name}", f"a {name} above 0 m", length=True)
         assert self.width_m is not None and self.thickness_m is not None
         if self.thickness_m > self.width_m:
             raise InputError(
                 f"{w}.thickness",
                 f"a thickness no larger than the width ({self.width_m * 1e3:g} mm)",
-                self.thickness_m,
+                _shown(self.thickness_m),
                 "thickness is the size out of the frame's plane and width the size in it; "
                 "were they swapped?",
             )
@@ -326,13 +334,13 @@ class ArmGeometry:
         for name, value in (("outer_diameter", self.outer_diameter_m), ("wall", self.wall_m)):
             if value is None:
                 raise InputError(f"{w}.{name}", f"a tube {name} like '1 mm'", MISSING)
-            _check_positive(value, f"{w}.{name}", f"a tube {name} above 0 m")
+            _check_positive(value, f"{w}.{name}", f"a tube {name} above 0 m", length=True)
         assert self.outer_diameter_m is not None and self.wall_m is not None
         if self.wall_m >= self.outer_diameter_m / 2.0:
             raise InputError(
                 f"{w}.wall",
                 f"a wall thinner than the outer radius ({self.outer_diameter_m * 500:g} mm)",
-                self.wall_m,
+                _shown(self.wall_m),
                 "a tube needs a bore",
             )
 
