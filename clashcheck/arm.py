@@ -43,12 +43,19 @@ optional corrections exist, and only one may be given:
 with Rayleigh's quotient on the static-deflection shape: k = 3EI/L³ and
 m_eff = M + (33/140)·m (with a root spring and rotary inertia the same shape is
 used, with their terms added).  It is an upper bound; the relative difference
-from the exact root is reported.
+from the exact root is reported.  With a point tip mass it reads at most
+1.465 % high (the bare beam); a large tip rotary inertia makes the static
+shape a poorer guess and the difference grows (about 10 % at j = 0.5, μ = 0).
+
+**Tip.**  The tip body's centre is taken at the beam's end; its rotary
+inertia (``tip_inertia``, about its own centre) is used for both planes.
+Clamp stiffness is read per radian, a radian counting as 1 as in SI.
 
 **Uncertainty.**  The material catalog gives low, nominal and high modulus
 and density.  The low frequency takes (E low, ρ high), the high frequency
-(E high, ρ low): every frequency rises with E and falls with ρ (ρ raises the
-beam's own mass and so lowers μ's benefit too), so these corners bound it.
+(E high, ρ low).  A stiffer beam raises every natural frequency and a denser
+one (more mass everywhere, same tip) lowers every one, so these two corners
+bound the frequency over the whole box of material data.
 
 **Left out.**  Shear deformation and the section's own rotary inertia
 (Timoshenko effects; they matter for stubby arms, which get a note), the
