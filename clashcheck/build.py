@@ -498,8 +498,10 @@ def parse_build(data: dict[str, Any], *, path: str | None = None) -> Build:
             arm_raw, field="frame.arm", motor_mass_kg=motor.mass_kg, prop_mass_kg=prop.mass_kg
         )
         measured_names = {m.name for m in modes}
-        estimated = arm_module.estimated_modes(arm_module.estimate_arm(arm))
+        estimate = arm_module.estimate_arm(arm)
+        estimated = arm_module.estimated_modes(estimate)
         modes = modes + [m for m in estimated if m.name not in measured_names]
+        notes += [f"arm estimate: {n}" for n in estimate.notes]
     if not modes:
         raise InputError("frame.modes", "at least one [[frame.modes]] entry, a frame catalog or [frame.arm]", [])
     return Build(
