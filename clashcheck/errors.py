@@ -30,6 +30,11 @@ class _Missing:
 MISSING = _Missing()
 
 
+def _printable(text: str) -> str:
+    """``text`` with control characters escaped, so a message stays on one line."""
+    return text if text.isprintable() else repr(text)[1:-1]
+
+
 class ClashcheckError(Exception):
     """Base class of every error clashcheck raises on purpose."""
 
@@ -60,7 +65,7 @@ class InputError(ClashcheckError, ValueError):
         got = repr(self.got)
         if len(got) > 80:
             got = got[:77] + "..."
-        text = f"{self.field}: expected {self.expected}, got {got}"
+        text = f"{_printable(str(self.field))}: expected {self.expected}, got {got}"
         if self.hint:
             text += f" ({self.hint})"
         return text

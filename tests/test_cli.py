@@ -97,6 +97,13 @@ def test_non_utf8_bytes(runner, write_build, base_build, toml_text):
     _assert_input_error(_run(runner, write_build(data)), "UTF-8", "build.toml")
 
 
+@pytest.mark.parametrize("key", [r"x\ny", r"x\ry", r"x\u001ey", r"x\u2028y"])  # TOML escapes
+def test_unknown_key_with_a_line_break_stays_on_one_line(runner, write_build, base_build, toml_text, key):
+    # a quoted TOML key may hold control characters; the message must still be one line
+    text = toml_text(base_build) + f'"{key}" = 1\n'
+    _assert_input_error(_run(runner, write_build(text)), "expected a known key")
+
+
 def test_invalid_toml(runner, write_build):
     _assert_input_error(_run(runner, write_build("[frame\nmotors = 4\n")), "valid TOML", "build.toml")
 
