@@ -90,7 +90,8 @@ values = st.recursive(scalars, lambda inner: st.one_of(st.lists(inner, max_size=
 def _mutate(data: st.DataObject, doc: dict[str, Any]) -> None:
     """Apply one random mutation to ``doc`` in place."""
     paths = _paths(doc)
-    kind = data.draw(st.sampled_from(["delete", "swap", "magnitude", "unit", "text", "add", "table"]))
+    kind = data.draw(st.sampled_from(["delete", "swap", "magnitude", "unit", "text", "add", "table"]
+                                     + ["rescale"] * 5))
     if not paths:
         kind = "add"
     if kind == "table":
@@ -107,6 +108,17 @@ def _mutate(data: st.DataObject, doc: dict[str, Any]) -> None:
         del parent[key]
     elif kind == "swap":
         parent[key] = data.draw(values)
+    elif kind == "rescale":  # a legal-looking but extreme figure: the engine must cope or refuse
+        old = parent[key]
+        factor = data.draw(st.sampled_from([1e-6, 1e-3, 0.01, 0.1, 0.5, 0.9, 1.1, 2.0, 10.0, 100.0, 1e4]))
+        if isinstance(old, str) and " " in old:
+            number, _, unit = old.partition(" ")
+            try:
+                parent[key] = f"{float(number) * factor:.6g} {unit}"
+            except ValueError:
+                parent[key] = old
+        elif isinstance(old, (int, float)) and not isinstance(old, bool):
+            parent[key] = type(old)(old * factor) if isinstance(old, float) else max(0, round(old * factor))
     elif kind in ("magnitude", "unit"):
         old = parent[key]
         number, _, unit = old.partition(" ") if isinstance(old, str) else ("1", " ", "Hz")
