@@ -73,7 +73,11 @@ _FAIL_LEVELS = {"clash": ("clash",), "watch": ("watch", "clash"), "never": ()}
     help="Measured modes (from 'clashcheck modes --output') to merge into the build.",
 )
 @click.option("--output", "-o", type=click.Path(path_type=Path), help="Write the report here (atomically).")
-def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, output: Path | None) -> None:
+@click.option("--plot", "plot_file", type=click.Path(dir_okay=False, path_type=Path),
+              help="Also draw the Campbell diagram here (.png, .svg, .pdf; needs the [plot] extra). "
+                   "With --format markdown the report embeds it and adds computed suggestions.")
+def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, output: Path | None,
+          plot_file: Path | None = None) -> None:
     """Find the throttle ranges where excitation meets a frame mode.
 
     Exit codes: 0 nothing reaches the --fail-on level, 1 something does,
@@ -88,6 +92,11 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
         build = build.with_measured(load_modes_file(modes_file))
     result = check_build(build)
     text = render(result, fmt)
+    if plot_file is not None:  # matplotlib and scipy are imported only on this path
+        from .decide_report import report_with_diagram
+
+        text = report_with_diagram(build, result, fmt, plot_file, output,
+                                   inputs=[p for p in (build_file, modes_file) if p is not None])
     if output is not None:
         write_output(output, text, inputs=[p for p in (build_file, modes_file) if p is not None])
     else:
@@ -164,3 +173,162 @@ def arm_command(build_file: Path | None, fmt: str, **options: object) -> None:
         geometry = parse_arm_table(table, field="arm")
     estimate = estimate_arm(geometry)
     click.echo(json.dumps(arm_json(estimate), indent=2) if fmt == "json" else arm_table(estimate))
+
+
+# --- deciding between builds: compare, pick, plot (issue 5) -------------------
+
+
+class _Quantity(click.ParamType):
+    """A value with units, parsed once here into SI (e.g. ``"1750 rpm/V"``)."""
+
+    def __init__(self, unit: str, example: str) -> None:
+        self.unit, self.example = unit, example
+        self.name = f"'{example}'"
+
+    def convert(self, value, param, ctx):
+        from .errors import InputError
+        from .units import parse
+
+        if isinstance(value, float):
+            return value
+        try:
+            return parse(value, self.unit, param.opts[0] if param else "value", example=self.example)
+        except InputError as exc:
+            self.fail(str(exc), param, ctx)
+
+
+class _Counts(click.ParamType):
+    """A comma-separated list of whole numbers, e.g. ``"4,6"``."""
+
+    name = "N,N,..."
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, tuple):
+            return value
+        try:
+            numbers = tuple(int(part) for part in str(value).split(",") if part.strip())
+        except ValueError:
+            self.fail(f"expected whole numbers separated by commas, like '4,6', got {value!r}", param, ctx)
+        if not numbers:
+            self.fail("expected at least one number", param, ctx)
+        return numbers
+
+
+def _emit(text: str, output: Path | None, inputs) -> None:
+    from .report import write_output
+
+    if output is not None:
+        write_output(output, text, inputs=inputs)
+    else:
+        click.echo(text, nl=False)
+
+
+_PATH = click.Path(dir_okay=False, path_type=Path)
+
+
+@main.command()
+@click.argument("build_a", type=_PATH)
+@click.argument("build_b", type=_PATH)
+@click.option("--format", "fmt", type=_FORMATS, default="table", show_default=True, help="Output format.")
+@click.option("--fail-on", type=click.Choice(list(_FAIL_LEVELS)), default="clash", show_default=True,
+              help="Exit 1 when B is worse than A at this level.")
+@click.option("--no-shift", is_flag=True, help="Use B's modes as written (no shift for the change in tip mass).")
+@click.option("--plot", "plot_file", type=_PATH, help="Draw both Campbell diagrams side by side here.")
+@click.option("--output", "-o", type=click.Path(path_type=Path), help="Write the report here (atomically).")
+def compare(build_a: Path, build_b: Path, fmt: str, fail_on: str, no_shift: bool, plot_file: Path | None,
+            output: Path | None) -> None:
+    """Compare build A with a proposed swap B, side by side.
+
+    B's arm modes are shifted from A's figures for the change in motor and
+    propeller mass when both are known.  Exit codes: 0 B is not worse at the
+    --fail-on level, 1 it is, 2 bad input.
+    """
+    from .build import load_build
+    from .compare import compare_builds
+    from .decide_report import render_compare
+
+    result = compare_builds(load_build(build_a), load_build(build_b), shift_modes=not no_shift)
+    if plot_file is not None:
+        from .plot import campbell_data, save_campbell
+
+        save_campbell(plot_file, [campbell_data(result.build_a, result.a), campbell_data(result.build_b, result.b)],
+                      inputs=[build_a, build_b])
+    _emit(render_compare(result, fmt, fail_on), output, [build_a, build_b])
+    sys.exit(EXIT_FAIL if result.worse_at(fail_on) else EXIT_OK)
+
+
+@main.command()
+@click.argument("build_file", type=_PATH)
+@click.option("--motors", type=click.Choice(["catalog"]), help="Search the catalog motors.")
+@click.option("--stator", "stators", multiple=True, help="Catalog stator size to keep, e.g. 2207 (repeatable).")
+@click.option("--max-motor-mass", type=_Quantity("kg", "40 g"), help="Heaviest catalog motor, e.g. '40 g'.")
+@click.option("--kv-from", type=_Quantity("rpm/V", "1500 rpm/V"), help="Kv sweep on the build's motor: from.")
+@click.option("--kv-to", type=_Quantity("rpm/V", "2200 rpm/V"), help="Kv sweep: to.")
+@click.option("--kv-step", type=_Quantity("rpm/V", "50 rpm/V"), default="50 rpm/V", show_default=True,
+              help="Kv sweep: step.")
+@click.option("--poles", type=_Counts(), help="Pole counts to try, e.g. 12,14.")
+@click.option("--props", help="'catalog', or catalog propeller ids separated by commas.")
+@click.option("--max-prop-diameter", type=_Quantity("m", "5.1 in"), help="Largest propeller that fits the frame.")
+@click.option("--cells", type=_Counts(), help="Cell counts to try, e.g. 4,6.")
+@click.option("--cell-mass", type=_Quantity("kg", "45 g"), help="Mass of one cell, so the all-up mass follows --cells.")
+@click.option("--pin", "pins", multiple=True, type=click.Choice(["motor", "kv", "poles", "prop", "cells"]),
+              help="Keep this part as the build has it (repeatable).")
+@click.option("--hover-low", type=_Quantity("%", "25 %"), default="25 %", show_default=True,
+              help="Lowest hover throttle that keeps control resolution.")
+@click.option("--hover-high", type=_Quantity("%", "50 %"), default="50 %", show_default=True,
+              help="Highest hover throttle that keeps headroom.")
+@click.option("--top", type=click.IntRange(1, 100), default=5, show_default=True, help="How many to list.")
+@click.option("--format", "fmt", type=_FORMATS, default="table", show_default=True, help="Output format.")
+@click.option("--output", "-o", type=click.Path(path_type=Path), help="Write the report here (atomically).")
+def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str | None,
+         kv_from: float | None, kv_to: float | None, kv_step: float, hover_low: float, hover_high: float,
+         **options) -> None:
+    """Search parts for the build's frame and rank them.
+
+    With no search option, catalog motors and fitting catalog props are
+    searched.  Exit codes: 0 the best candidate keeps the operating band
+    clear, 1 none does, 2 bad input (e.g. an empty candidate set or
+    contradictory pins).
+    """
+    from .build import load_build
+    from .decide_report import render_pick
+    from .errors import InputError
+    from .pick import pick as run_pick
+    from .pick import search_space
+
+    if (kv_from is None) != (kv_to is None):
+        raise InputError("pick --kv-to" if kv_to is None else "pick --kv-from", "both --kv-from and --kv-to",
+                         "only one")
+    if props is not None and props != "catalog":
+        props = [p.strip() for p in props.split(",") if p.strip()]
+    build = load_build(build_file)
+    space = search_space(build, props=props, hover_range=(hover_low, hover_high),
+                         kv_range=None if kv_from is None else (kv_from, kv_to, kv_step),
+                         max_motor_mass_kg=options.pop("max_motor_mass"),
+                         max_prop_diameter_m=options.pop("max_prop_diameter"),
+                         cell_mass_kg=options.pop("cell_mass"),
+                         poles=options.pop("poles") or (), cells=options.pop("cells") or (), **options)
+    result = run_pick(build, space, top=top)
+    _emit(render_pick(result, fmt), output, [build_file])
+    sys.exit(EXIT_OK if result.top and result.top[0].band_clear else EXIT_FAIL)
+
+
+@main.command("plot")
+@click.argument("build_file", type=_PATH)
+@click.option("--output", "-o", type=_PATH, required=True, help="The diagram: .png, .svg or .pdf.")
+@click.option("--modes", "modes_file", type=_PATH, help="Measured modes to merge into the build.")
+def plot_command(build_file: Path, output: Path, modes_file: Path | None) -> None:
+    """Draw the Campbell diagram: excitation frequency against throttle, with the frame modes.
+
+    Needs the [plot] extra (matplotlib).
+    """
+    from .build import load_build, load_modes_file
+    from .clash import check_build
+    from .plot import campbell_data, save_campbell
+
+    build = load_build(build_file)
+    if modes_file is not None:
+        build = build.with_measured(load_modes_file(modes_file))
+    result = check_build(build)
+    save_campbell(output, [campbell_data(build, result)], inputs=[p for p in (build_file, modes_file) if p])
+    click.echo(f"wrote {output}: {result.name}, verdict {result.verdict}")

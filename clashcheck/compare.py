@@ -20,7 +20,8 @@ from __future__ import annotations
 
 import math
 from collections.abc import Iterable
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
+from typing import Any
 
 from .clash import VERDICTS, ClashResult, check_build
 from .drive import Hover
@@ -125,6 +126,9 @@ class CompareResult:
     empty_hover_b: Hover
     #: Findings and assumptions, one sentence each.
     notes: tuple[str, ...] = ()
+    #: The builds as checked (B with its shifted modes), for the diagram.
+    build_a: Any = field(default=None, repr=False, compare=False)
+    build_b: Any = field(default=None, repr=False, compare=False)
 
     def worse_at(self, level: str) -> bool:
         """Whether B is worse than A at a ``--fail-on`` level.
@@ -281,10 +285,11 @@ def compare_builds(a, b, *, shift_modes: bool = True) -> CompareResult:
         b_checked = b
         shift = MassShift(False, None, None, 0.0, "assumed 0", math.nan, (),
                           ("modes not shifted for the swap (turned off)",))
-    return compare_results(
+    result = compare_results(
         check_build(a),
         check_build(b_checked),
         shift=shift,
         empty_hover_a=_empty_hover(a),
         empty_hover_b=_empty_hover(b_checked),
     )
+    return replace(result, build_a=a, build_b=b_checked)

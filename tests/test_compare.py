@@ -1,0 +1,304 @@
+"""Tests for clashcheck.shift and clashcheck.compare.
+
+References: the single-degree-of-freedom ratio f ∝ √(k/m_eff), ζ ∝ 1/√(k·m_eff)
+with m_eff = M + 33/140·m (REFERENCES.md §2, §3; derived), the exact
+cantilever-with-tip-mass roots (Karnovsky & Lebed 2004 §7.5.3, REFERENCES.md
+§3, via clashcheck.arm), the hover relation N·C_T·ρ·n²·D⁴ = m·g and the
+no-load rule ω = Kv·d·V (REFERENCES.md §4–5), and ISA sea-level density
+1.225 kg/m³ (REFERENCES.md §6).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import tomllib
+from dataclasses import replace
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from clashcheck.arm import frequency_parameters
+from clashcheck.build import load_build, parse_build
+from clashcheck.clash import check_build
+from clashcheck.cli import main
+from clashcheck.compare import compare_builds
+from clashcheck.errors import InputError
+from clashcheck.modes import Mode
+from clashcheck.shift import effective_mass_kg, frequency_ratio, shift_mode, shift_modes, swap_shift
+
+EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
+G = 9.80665            # standard gravity (ISO 80000-3)
+RHO0 = 1.225           # ISA sea level, kg/m³ (REFERENCES.md §6, confirmed)
+
+
+def _build(text: str, path: str = "test.toml"):
+    return parse_build(tomllib.loads(text), path=path)
+
+
+# --- the mass shift ----------------------------------------------------------------
+
+
+def test_effective_mass_and_ratio_by_hand():
+    # m_eff = 40 g + 33/140 × 14 g = 43.3 g (derived)
+    assert effective_mass_kg(0.040, 0.014) == pytest.approx(0.0433, rel=1e-12)
+    # 25 % heavier tip, arm mass negligible: f ratio = √(40/50) (derived)
+    assert frequency_ratio(0.040, 0.050) == pytest.approx(math.sqrt(0.8), rel=1e-12)
+    assert frequency_ratio(0.040, 0.050, 0.014) == pytest.approx(math.sqrt(0.0433 / 0.0533), rel=1e-12)
+
+
+def test_ratio_against_published_tip_mass_roots():
+    # λ₁ at μ = 1 and μ = 10: 1.247917 and 0.735782 (REFERENCES.md §3, derived from
+    # Karnovsky & Lebed table 7.6); f ∝ λ², so the exact ratio is (λ₁₀/λ₁)²
+    exact = (0.735782 / 1.247917) ** 2
+    beam = 1.0                                   # beam mass; tip masses μ × beam
+    assert frequency_ratio(1.0 * beam, 10.0 * beam, beam) == pytest.approx(exact, rel=1e-3)
+
+
+@pytest.mark.parametrize("mu_old, mu_new", [(0.5, 0.8), (1.0, 1.4), (2.0, 3.0), (4.0, 2.5)])
+def test_ratio_against_exact_tip_mass_equation(mu_old, mu_new):
+    # the arm issue's exact frequency equation (Karnovsky & Lebed §7.5.3), solved by clashcheck.arm
+    lam_old = frequency_parameters(mu_old, count=1)[0]
+    lam_new = frequency_parameters(mu_new, count=1)[0]
+    exact = (lam_new / lam_old) ** 2
+    # Rayleigh's m_eff is within 1.5 % at μ = 0 and 0.05 % at μ = 1 (REFERENCES.md §3): ratios agree closer
+    assert frequency_ratio(mu_old, mu_new, 1.0) == pytest.approx(exact, rel=2e-3)
+
+
+ARM_A = """
+name = "arm A"
+[frame]
+motors = 4
+mass = "650 g"
+[frame.arm]
+length = "95 mm"
+width = "12 mm"
+thickness = "5 mm"
+material = "carbon-qi"
+[motor]
+kv = "1900 rpm/V"
+poles = 14
+slots = 12
+mass = "{motor_mass}"
+[prop]
+catalog = "5in-3b-mid"
+[battery]
+cells = 6
+"""
+
+
+def test_shift_against_beam_estimate_of_the_swapped_build():
+    # A's arm modes shifted by the SDOF ratio for B's motor must land near B's own exact estimate
+    a = _build(ARM_A.format(motor_mass="32 g"))
+    b = _build(ARM_A.format(motor_mass="46 g"))
+    modes, shift = shift_modes(a, b.motor.mass_kg, b.prop.mass_kg)
+    assert shift.applied and shift.arm_mass_source == "frame.arm"
+    assert shift.arm_mass_kg == pytest.approx(a.arm.beam_mass_kg(), rel=1e-12)
+    exact = {m.name: m for m in b.modes}
+    for m in modes:
+        if m.kind != "arm":
+            continue
+        # a second-mode ratio is not a spring-mass one; only first modes compare
+        if " 2 " in m.name:
+            continue
+        assert m.origin == "shifted"
+        assert m.frequency_hz == pytest.approx(exact[m.name].frequency_hz, rel=5e-3)
+        assert m.frequency_low_hz == pytest.approx(exact[m.name].frequency_low_hz, rel=5e-3)
+
+
+def test_damping_ratio_shifts_with_the_same_factor():
+    # ζ = c/(2√(k·m)): same c and k, heavier m → ζ × √(m_old/m_new) (Rao §2.6; derived)
+    mode = Mode("arm flap", 200.0, 0.030, kind="arm")
+    ratio = math.sqrt(37.3 / 49.8)
+    out = shift_mode(mode, ratio, old_tip_kg=0.0373, new_tip_kg=0.0498)
+    assert out.damping == pytest.approx(0.030 * math.sqrt(37.3 / 49.8), rel=1e-12)
+    assert out.frequency_hz == pytest.approx(200.0 * math.sqrt(37.3 / 49.8), rel=1e-12)
+    assert out.origin == "shifted"
+    assert out.details["old_frequency_hz"] == 200.0
+    assert out.details["old_damping"] == 0.030
+    with pytest.raises(InputError, match="ratio"):
+        shift_mode(mode, 0.0, old_tip_kg=0.03, new_tip_kg=0.04)
+
+
+def test_swap_shift_rules_on_the_examples():
+    a = load_build(EXAMPLES / "freestyle-5in.toml")
+    b = load_build(EXAMPLES / "freestyle-5in-swap.toml")
+    shifted, shift = swap_shift(a, b)
+    # tip mass = motor + prop from the catalog (33 + 4.3 g → 45.5 + 4.3 g), no [frame.arm]
+    assert shift.old_tip_kg == pytest.approx(0.0373, rel=1e-9)
+    assert shift.new_tip_kg == pytest.approx(0.0498, rel=1e-9)
+    assert shift.ratio == pytest.approx(math.sqrt(37.3 / 49.8), rel=1e-9)
+    a_modes = {m.name: m for m in a.modes}
+    for m in shifted.modes:
+        if m.kind == "arm":
+            assert m.frequency_hz == pytest.approx(a_modes[m.name].frequency_hz * shift.ratio, rel=1e-12)
+        else:
+            assert m == a_modes[m.name]
+    # without masses: nothing shifts and the notes say so
+    bare = replace(b, motor=replace(b.motor, mass_kg=None))
+    same, none = swap_shift(a, bare)
+    assert same.modes == bare.modes and not none.applied
+    assert any("not shifted" in n and "[motor] mass" in n for n in none.notes)
+    # a figure of B's own is kept
+    own = replace(b, modes=tuple(
+        replace(m, frequency_hz=m.frequency_hz + 1.0, frequency_low_hz=m.frequency_hz + 1.0,
+                frequency_high_hz=m.frequency_hz + 1.0) if m.kind == "arm" else m
+        for m in b.modes))
+    kept, info = swap_shift(a, own)
+    assert kept.modes == own.modes and any("own figure" in n for n in info.notes)
+
+
+# --- comparing the examples ---------------------------------------------------------
+
+
+def _clash_set(result):
+    return {(w.mode, w.label, w.aliased) for w in result.windows if w.touches_operating_band}
+
+
+def _by_hand_shift(a, b):
+    """B with its arm modes scaled by √(m_eff,A/m_eff,B), written out here."""
+    old = a.motor.mass_kg + a.prop.mass_kg
+    new = b.motor.mass_kg + b.prop.mass_kg
+    r = math.sqrt(old / new)
+    a_modes = {m.name: m for m in a.modes}
+    return replace(b, modes=tuple(
+        replace(a_modes[m.name], frequency_hz=a_modes[m.name].frequency_hz * r,
+                frequency_low_hz=a_modes[m.name].frequency_low_hz * r,
+                frequency_high_hz=a_modes[m.name].frequency_high_hz * r,
+                damping=a_modes[m.name].damping * r, origin="shifted") if m.kind == "arm" else m
+        for m in b.modes))
+
+
+@pytest.mark.parametrize("forward", [True, False], ids=["swap", "swap-back"])
+def test_examples_clashes_appear_and_disappear(forward):
+    a = load_build(EXAMPLES / "freestyle-5in.toml")
+    b = load_build(EXAMPLES / "freestyle-5in-swap.toml")
+    if not forward:
+        a, b = b, a
+    cmp = compare_builds(a, b)
+    ca, cb = _clash_set(check_build(a)), _clash_set(check_build(_by_hand_shift(a, b)))
+    assert {(f.mode, f.label, f.aliased) for f in cmp.appeared} == cb - ca
+    assert {(f.mode, f.label, f.aliased) for f in cmp.disappeared} == ca - cb
+    # the swap example is built to drop both arm-flap 1× clashes (with the shift) and the plate's;
+    # going back brings the plate clash back (the plate does not shift, so that part is symmetric)
+    plate = ("bottom plate bending", "1× rotor", False)
+    if forward:
+        assert {("arm flap, roll", "1× rotor", False), ("arm flap, pitch", "1× rotor", False), plate} <= ca - cb
+    else:
+        assert plate in cb - ca
+    assert cmp.worse_at("clash") is (not forward) is bool(cmp.appeared)
+    assert cmp.worse_at("never") is False
+
+
+def test_without_shift_fewer_clashes_go():
+    a = load_build(EXAMPLES / "freestyle-5in.toml")
+    b = load_build(EXAMPLES / "freestyle-5in-swap.toml")
+    with_shift = compare_builds(a, b)
+    without = compare_builds(a, b, shift_modes=False)
+    assert len(without.disappeared) < len(with_shift.disappeared)
+    assert not without.shift.applied
+
+
+# --- a hand-made pair with a known difference ----------------------------------------
+
+PAIR = """
+name = "{name}"
+[frame]
+motors = 4
+mass = "{mass}"
+[[frame.modes]]
+name = "plate"
+frequency = "200 Hz"
+damping = 0.05
+kind = "plate"
+[motor]
+kv = "2300 rpm/V"
+poles = 14
+slots = 12
+[prop]
+diameter = "5 in"
+blades = 3
+thrust_coefficient = 0.12
+[battery]
+cells = 4
+[flight]
+idle = "4 %"
+cruise = "60 %"
+[check]
+families = ["rotor"]
+"""
+
+
+def _hover_hz(mass_kg):
+    # N·C_T·ρ·n²·D⁴ = m·g (REFERENCES.md §5)
+    return math.sqrt(mass_kg * G / (4 * 0.12 * RHO0 * 0.127**4))
+
+
+def test_hand_made_pair_known_difference():
+    a = _build(PAIR.format(name="A", mass="600 g"))
+    b = _build(PAIR.format(name="B", mass="900 g"))
+    cmp = compare_builds(a, b)
+    n_a, n_b = _hover_hz(0.6), _hover_hz(0.9)
+    margin_a, margin_b = abs(n_a - 200) / 200, abs(n_b - 200) / 200
+    # ζ = 0.05 → AF 10 → required 15 % (REFERENCES.md §1 check values)
+    assert margin_a < 0.15 < margin_b
+    hover = {(m.point, m.pack_state): m for m in cmp.margin_changes if m.mode == "plate"}
+    for state in ("full", "nominal", "empty"):
+        m = hover[("hover", state)]
+        assert m.order_a == m.order_b == "1× rotor"
+        # ρ = 1.2250 to the 4 figures quoted, so agree to 1e-6 in margin
+        assert m.margin_a == pytest.approx(margin_a, abs=1e-6)
+        assert m.change == pytest.approx(margin_b - margin_a, abs=1e-6)
+    assert [(f.mode, f.label) for f in cmp.appeared] == []
+    assert [(f.mode, f.label) for f in cmp.disappeared] == [("plate", "1× rotor")]
+    # no-load rule: hover throttle = n / (Kv·V), V = 4 × 3.5 V on an empty lipo pack (REFERENCES.md §4, §7)
+    kv = 2300 / 60
+    assert cmp.empty_hover_b.throttle == pytest.approx(n_b / (kv * 14.0), rel=1e-6)
+    assert cmp.empty_hover_b.can_hover
+    assert not cmp.worse_at("clash")
+
+
+def test_losing_hover_on_an_empty_pack_is_worse():
+    a = _build(PAIR.format(name="A", mass="600 g"))
+    c = _build(PAIR.format(name="C", mass="5 kg"))
+    kv = 2300 / 60
+    # at 5 kg, hover needs n/(Kv·V) > 1 on the empty pack but not on the full one (derived)
+    assert _hover_hz(5.0) / (kv * 14.0) > 1 > _hover_hz(5.0) / (kv * 16.8)
+    cmp = compare_builds(a, c)
+    assert not cmp.empty_hover_b.can_hover
+    assert cmp.worse_at("clash") and cmp.worse_at("watch")
+    assert any("cannot hover on an empty pack" in n for n in cmp.notes)
+
+
+# --- the command ---------------------------------------------------------------------
+
+
+def test_cli_compare_exit_codes_and_json(tmp_path):
+    runner = CliRunner()
+    a, b = str(EXAMPLES / "freestyle-5in.toml"), str(EXAMPLES / "freestyle-5in-swap.toml")
+    res = runner.invoke(main, ["compare", a, b, "--format", "json"])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    assert data["b_worse"]["clash"] is False
+    gone = {(c["mode"], c["order"]) for c in data["changes"]["clashes_disappeared"]}
+    assert ("arm flap, roll", "1× rotor") in gone
+    assert data["mode_shift"]["applied"] and 0 < data["mode_shift"]["frequency_ratio"] < 1
+    assert all(0 <= m["margin_a"] <= 10 for m in data["changes"]["margin_changes"])   # fractions
+    assert data["cautions"]
+    # back the other way, B is worse: exit 1 so a script can refuse the swap
+    assert runner.invoke(main, ["compare", b, a]).exit_code == 1
+    assert runner.invoke(main, ["compare", b, a, "--fail-on", "never"]).exit_code == 0
+    md = runner.invoke(main, ["compare", a, b, "--format", "markdown"])
+    assert md.exit_code == 0 and "## Changes" in md.stdout and "propellers off" in md.stdout
+
+
+def test_cli_compare_bad_output(tmp_path):
+    runner = CliRunner()
+    a, b = str(EXAMPLES / "freestyle-5in.toml"), str(EXAMPLES / "freestyle-5in-swap.toml")
+    for args in (["-o", str(tmp_path / "missing" / "out.md")], ["-o", a]):
+        res = runner.invoke(main, ["compare", a, b, *args])
+        assert res.exit_code == 2, res.output
+        assert res.stderr.startswith("clashcheck: error:") and "Traceback" not in res.output
+    res = runner.invoke(main, ["compare", a, str(tmp_path / "nope.toml")])
+    assert res.exit_code == 2

@@ -1,0 +1,341 @@
+"""Tests for clashcheck.pick: candidate search, vectorised scoring, ranking.
+
+The reference is a plain Python loop in this file: for every candidate it
+builds the candidate with ``dataclasses.replace``, shifts the arm modes with
+the analytic single-degree-of-freedom ratio written out here, runs the core
+engine's full ``check_build`` (exact clash windows) and computes the peak
+weighted response over the operating band with scalar arithmetic.  The
+vectorised search must agree with it exactly (same flags, same ranking).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from clashcheck.build import _parse_prop, parse_build
+from clashcheck.clash import check_build
+from clashcheck.cli import main
+from clashcheck.errors import InputError
+from clashcheck.excitation import build_orders, fold
+from clashcheck.modes import magnification
+from clashcheck.pick import (
+    PropOption,
+    SearchSpace,
+    candidate_build,
+    kv_variant,
+    pick,
+    rank,
+    score_candidates,
+    search_space,
+)
+
+import tomllib
+
+# Invented test frame (fixture data, not a reference).  The low-rate 700 Hz
+# sensor has no anti-alias filter, so aliased lines matter (they give the peak
+# response for most candidates); one mode has no damping figure (assumed); two
+# are arm modes that shift with the tip mass.  On 4 cells a few candidates keep
+# the operating band clear, so both sides of the first ranking key occur.
+FRAME = """
+name = "test frame"
+[frame]
+motors = 4
+mass = "650 g"
+[[frame.modes]]
+name = "arm flap"
+frequency = "110 Hz"
+damping = 0.03
+kind = "arm"
+[[frame.modes]]
+name = "arm sway"
+frequency = "60 Hz"
+kind = "arm"
+[[frame.modes]]
+name = "plate"
+frequency = "850 Hz"
+damping = 0.05
+kind = "plate"
+[motor]
+kv = "1900 rpm/V"
+poles = 14
+slots = 12
+resistance = "60 mohm"
+no_load_current = "1.0 A"
+mass = "32 g"
+[prop]
+catalog = "5in-3b-mid"
+[battery]
+cells = 6
+cell_resistance = "3 mohm"
+[sensor]
+sample_rate = "700 Hz"
+[flight]
+idle = "4 %"
+cruise = "45 %"
+"""
+
+# The same idea with an estimated arm (modes with a frequency range, arm mass known).
+ARM_FRAME = """
+name = "arm frame"
+[frame]
+motors = 4
+mass = "650 g"
+[frame.arm]
+length = "95 mm"
+width = "12 mm"
+thickness = "5 mm"
+material = "carbon-qi"
+[[frame.modes]]
+name = "plate"
+frequency = "430 Hz"
+damping = 0.05
+kind = "plate"
+[motor]
+kv = "1900 rpm/V"
+poles = 14
+slots = 12
+resistance = "60 mohm"
+mass = "32 g"
+[prop]
+catalog = "5in-3b-mid"
+[battery]
+cells = 6
+[sensor]
+sample_rate = "8 kHz"
+antialias_cutoff = "1 kHz"
+[flight]
+cruise = "60 %"
+"""
+
+
+def _build(text: str):
+    return parse_build(tomllib.loads(text), path="test.toml")
+
+
+def _space(build, kv_rpm=(1500, 1900, 2300), poles=(12, 14), cells=(4, 6),
+           props=("5in-3b-low", "5in-3b-mid", "5in-4b", "5in-2b")):
+    return search_space(build, kv_range=(kv_rpm[0] / 60, kv_rpm[-1] / 60, (kv_rpm[1] - kv_rpm[0]) / 60),
+                        poles=poles, cells=cells, props=list(props))
+
+
+# --- the reference: a plain loop over candidates --------------------------------
+
+
+def _reference_candidate(base, kv_hz, poles, prop, cells):
+    """The candidate built by hand (not with pick.candidate_build)."""
+    motor = replace(base.motor, kv_hz_per_v=kv_hz, poles=poles,
+                    resistance_ohm=base.motor.resistance_ohm * (base.motor.kv_hz_per_v / kv_hz) ** 2)
+    parts0 = base.motor.mass_kg + base.prop.mass_kg
+    parts1 = motor.mass_kg + prop.mass_kg
+    mass = base.mass_kg + base.motors * (parts1 - parts0)
+    if base.arm is not None:
+        old_tip, arm_mass = base.arm.tip_mass_kg, base.arm.beam_mass_kg()
+    else:
+        old_tip, arm_mass = parts0, 0.0
+    new_tip = old_tip + (parts1 - parts0)
+    # SDOF: f ∝ √(k/m_eff), ζ ∝ 1/√(k·m_eff), m_eff = tip + 33/140 arm  (REFERENCES.md §2–3; derived)
+    ratio = math.sqrt((old_tip + 33.0 / 140.0 * arm_mass) / (new_tip + 33.0 / 140.0 * arm_mass))
+    modes = []
+    for m in base.modes:
+        if m.kind == "arm":
+            m = replace(m, frequency_hz=m.frequency_hz * ratio, frequency_low_hz=m.frequency_low_hz * ratio,
+                        frequency_high_hz=m.frequency_high_hz * ratio,
+                        damping=None if m.damping is None else m.damping * ratio, origin="shifted")
+        modes.append(m)
+    flight = replace(base.flight, hover=None) if prop.thrust_coefficient is not None else base.flight
+    return replace(base, motor=motor, prop=prop, pack=replace(base.pack, cells=cells), mass_kg=mass,
+                   modes=tuple(modes), flight=flight)
+
+
+def _peak_m(x_lo, x_hi, mode, zeta):
+    """Largest M over f in [x_lo, x_hi], f_m in the mode's range: M has one peak at r_p = √(1 − 2ζ²)
+    (Rao §3.4), so check the interval ends and r_p when it lies inside."""
+    r_lo, r_hi = x_lo / mode.frequency_high_hz, x_hi / mode.frequency_low_hz
+    r_p = math.sqrt(max(1.0 - 2.0 * zeta * zeta, 0.0))
+    points = [r_lo, r_hi] + ([r_p] if r_lo <= r_p <= r_hi else [])
+    return max(float(magnification(r, zeta)) for r in points)
+
+
+def _reference_score(cand):
+    result = check_build(cand)
+    drive = cand.drive()
+    sensor = cand.sensor
+    floor = cand.check.weight_floor
+    orders = build_orders(cand.motor, cand.prop, cand.check.families)
+    response = -math.inf
+    for band in result.bands:
+        if not band.flies:
+            continue
+        for mode in cand.modes:
+            zeta, _ = cand.check.policy.damping_of(mode)
+            for o in orders:
+                x_lo = o.order * float(drive.rotor_hz(band.throttle_low, band.pack_state))
+                x_hi = o.order * float(drive.rotor_hz(band.throttle_high, band.pack_state))
+                response = max(response, o.weight * _peak_m(x_lo, x_hi, mode, zeta))
+                if sensor is None:
+                    continue
+                nyq = sensor.nyquist_hz
+                for zone in range(max(1, int(x_lo // nyq)), int(x_hi // nyq) + 1):
+                    t_lo, t_hi = max(x_lo, zone * nyq), min(x_hi, (zone + 1) * nyq)
+                    w = o.weight * float(sensor.gain(t_lo))
+                    if t_lo > t_hi or w < floor:
+                        continue
+                    a, b = sorted((fold(t_lo, sensor.sample_rate_hz), fold(t_hi, sensor.sample_rate_hz)))
+                    response = max(response, w * _peak_m(a, b, mode, zeta))
+    flies = all(b.flies for b in result.bands)
+    hovers = [b.hover.throttle for b in result.bands]
+    return {
+        "flies": flies,
+        "band_clear": result.verdict != "clash",
+        "in_range": all(0.25 <= h <= 0.50 for h in hovers),
+        "response": response if math.isfinite(response) else math.inf,
+        "hover": hovers,
+    }
+
+
+def _brute_force(base, kvs, poles_list, props, cells_list):
+    rows = []
+    for kv in kvs:                       # same order as the search space's axes
+        for poles in poles_list:
+            for prop in props:
+                for cells in cells_list:
+                    rows.append(_reference_score(_reference_candidate(base, kv, poles, prop, cells)))
+    return rows
+
+
+def _reference_rank(rows):
+    keys = [(not r["flies"], not r["band_clear"], not r["in_range"], r["response"], i) for i, r in enumerate(rows)]
+    return [k[-1] for k in sorted(keys)]
+
+
+@pytest.mark.parametrize("text", [FRAME, ARM_FRAME], ids=["point-modes-aliasing", "estimated-arm"])
+def test_vectorised_matches_brute_force(text):
+    base = _build(text)
+    kv_rpm = (1500, 1900, 2300)
+    props_ids = ("5in-3b-low", "5in-3b-mid", "5in-4b", "5in-2b")
+    space = _space(base, kv_rpm=kv_rpm, props=props_ids)
+    props = [_parse_prop({"catalog": p}) for p in props_ids]
+    rows = _brute_force(base, [k / 60 for k in kv_rpm], (12, 14), props, (4, 6))
+    scores = score_candidates(base, space, block=7)          # odd block size: block edges must not matter
+    assert space.size == len(rows) == 48
+    assert scores.flies.tolist() == [r["flies"] for r in rows]
+    assert scores.band_clear.tolist() == [r["band_clear"] for r in rows]
+    assert scores.hover_in_range.tolist() == [r["in_range"] for r in rows]
+    np.testing.assert_allclose(scores.response, [r["response"] for r in rows], rtol=1e-12)
+    np.testing.assert_allclose(scores.hover_throttle, [r["hover"] for r in rows], rtol=1e-12)
+    # the whole ranking, and so the top choice, matches the loop exactly
+    assert rank(scores).tolist() == _reference_rank(rows)
+    # the mix of outcomes makes the comparison meaningful
+    assert len({r["in_range"] for r in rows}) == 2
+    if text is FRAME:
+        assert 0 < sum(r["band_clear"] for r in rows) < len(rows)
+        assert np.any(scores.response_at[:, 3] > 0)          # some peaks come from aliased lines
+
+
+def test_candidate_build_agrees_with_reference():
+    base = _build(FRAME)
+    space = _space(base)
+    index = 17
+    motor, prop, cells, _label = space.parts(index)
+    ours = candidate_build(base, space, index)
+    ref = _reference_candidate(base, motor.kv_hz_per_v, motor.poles, prop, cells)
+    assert ours.mass_kg == pytest.approx(ref.mass_kg, rel=1e-15)
+    for a, b in zip(ours.modes, ref.modes):
+        assert a.frequency_hz == pytest.approx(b.frequency_hz, rel=1e-15)
+        assert (a.damping is None) == (b.damping is None)
+
+
+def test_peak_response_is_the_maximum_over_the_band():
+    # M has a single maximum, so the end-and-peak rule must not be beaten by a dense sample
+    # of the band (Rao §3.4; direct lines, point modes)
+    base = _build(FRAME)
+    cand = _reference_candidate(base, 1900 / 60, 14, base.prop, 6)
+    drive = cand.drive()
+    result = check_build(cand)
+    dense = closed = -math.inf
+    for band in result.bands:
+        d = np.linspace(band.throttle_low, band.throttle_high, 4001)
+        rotor = drive.rotor_hz(d, band.pack_state)
+        for mode in cand.modes:
+            zeta, _ = cand.check.policy.damping_of(mode)
+            for o in build_orders(cand.motor, cand.prop, cand.check.families):
+                m = o.weight * magnification(o.order * rotor / mode.frequency_hz, zeta)
+                dense = max(dense, float(np.max(m)))
+                closed = max(closed, o.weight * _peak_m(o.order * rotor[0], o.order * rotor[-1], mode, zeta))
+    assert dense <= closed * (1 + 1e-12)
+    assert dense == pytest.approx(closed, rel=2e-3)
+
+
+def test_pick_top_is_fully_checked():
+    base = _build(FRAME)
+    result = pick(base, _space(base), top=3)
+    assert result.searched == 48
+    assert [p.rank for p in result.top] == [1, 2, 3]
+    for p in result.top:
+        assert (p.result.verdict != "clash") == p.band_clear
+    assert not any("disagrees" in n for n in result.notes)
+
+
+def test_kv_variant_scales_resistance():
+    m = kv_variant(_build(FRAME).motor, 2000 / 60)
+    # R ∝ 1/Kv² for the same stator (common practice)
+    assert m.resistance_ohm == pytest.approx(0.060 * (1900 / 2000) ** 2, rel=1e-12)
+
+
+# --- bad input -------------------------------------------------------------------
+
+
+def test_contradictory_pins():
+    base = _build(FRAME)
+    with pytest.raises(InputError, match="contradictory"):
+        search_space(base, cells=(4, 6), pins=("cells",))
+    with pytest.raises(InputError, match="contradictory"):
+        search_space(base, kv_range=(25.0, 30.0, 1.0), pins=("motor",))
+    with pytest.raises(InputError, match="not both"):
+        search_space(base, motors="catalog", kv_range=(25.0, 30.0, 1.0))
+
+
+def test_empty_candidate_sets():
+    base = _build(FRAME)
+    with pytest.raises(InputError, match="empty candidate set"):
+        search_space(base, stators=("9999",))
+    with pytest.raises(InputError, match="empty candidate set"):
+        search_space(base, kv_range=(30.0, 25.0, 1.0))
+    with pytest.raises(InputError, match="empty candidate set"):
+        SearchSpace((), (PropOption("p", base.prop, "build"),), (6,))
+    with pytest.raises(InputError, match="every part pinned"):
+        search_space(base, pins=("motor", "prop"))
+
+
+def _write(tmp_path, text, name="quad.toml"):
+    p = tmp_path / name
+    p.write_text(text, encoding="utf-8")
+    return p
+
+
+def test_cli_pick_json_and_errors(tmp_path):
+    import json
+
+    path = _write(tmp_path, FRAME)
+    runner = CliRunner()
+    res = runner.invoke(main, ["pick", str(path), "--kv-from", "1500 rpm/V", "--kv-to", "2300 rpm/V",
+                               "--kv-step", "400 rpm/V", "--cells", "4,6", "--props", "5in-3b-mid,5in-2b",
+                               "--top", "2", "--format", "json"])
+    assert res.exit_code in (0, 1), res.output
+    data = json.loads(res.stdout)
+    assert data["searched"] == 12 and len(data["top"]) == 2
+    assert 0 <= data["top"][0]["hover"]["full"] <= 1           # fractions, not percentages
+    for args, needle in [
+        (["--cells", "4,6", "--pin", "cells"], "contradictory"),
+        (["--stator", "9999"], "empty candidate set"),
+        (["--kv-from", "2000 rpm/V", "--kv-to", "1500 rpm/V"], "empty candidate set"),
+        (["--cells", "four"], "cells"),
+    ]:
+        res = runner.invoke(main, ["pick", str(path), *args])
+        assert res.exit_code == 2, (args, res.output)
+        assert needle in res.stderr and "Traceback" not in res.output
