@@ -235,3 +235,22 @@ def test_python_dash_m(repo):
                           cwd=repo, timeout=60)
     assert proc.returncode == 0, proc.stderr
     assert "check" in proc.stdout
+
+
+def test_check_does_not_import_scipy_or_matplotlib(repo, tmp_path):
+    # issue 2 §9: `clashcheck check` on the demo build imports neither scipy nor matplotlib.
+    # The first run with an empty cache imports pint, and pint itself imports scipy when it is
+    # installed (pint.compat); the check is made on the second, warm-cache run.
+    code = (
+        "import sys\n"
+        "from clashcheck.cli import main\n"
+        "try:\n"
+        "    main(['check', 'examples/freestyle-5in.toml', '--format', 'json', '--output', sys.argv[1]])\n"
+        "except SystemExit as exc:\n"
+        "    print(exc.code, 'scipy' in sys.modules, 'matplotlib' in sys.modules, 'pint' in sys.modules)\n"
+    )
+    env = {"CLASHCHECK_CACHE_DIR": str(tmp_path / "cache"), "PATH": ""}
+    runs = [subprocess.run([sys.executable, "-c", code, str(tmp_path / "r.json")], capture_output=True,
+                           text=True, cwd=repo, timeout=60, env=env) for _ in range(2)]
+    assert runs[0].stdout.split()[0] == "1", runs[0].stderr
+    assert runs[1].stdout.split() == ["1", "False", "False", "False"], runs[1].stderr
