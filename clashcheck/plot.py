@@ -418,7 +418,23 @@ def save_campbell(path, datas, *, inputs=()) -> None:
     if suffix not in PLOT_FORMATS:
         raise InputError("--plot", "a file name ending in " + ", ".join("." + s for s in PLOT_FORMATS),
                          str(path))
+    _check_target(Path(path), inputs)
     fig = make_figure(datas)
     buffer = io.BytesIO()
     fig.savefig(buffer, format=suffix, dpi=150, metadata={"Date": None} if suffix == "svg" else None)
     write_output(path, buffer.getvalue(), inputs=inputs)
+
+
+def _check_target(target: Path, inputs) -> None:
+    """Refuse an unwritable target before the (slow) drawing; write_output checks again when writing."""
+    from .errors import OutputError
+    from .report import _same_file
+
+    for inp in inputs:
+        if _same_file(target, Path(inp)):
+            raise OutputError(str(target), "refusing to overwrite an input file")
+    if target.is_dir():
+        raise OutputError(str(target), "is a folder")
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise OutputError(str(target), f"folder {str(folder)!r} does not exist")
