@@ -523,6 +523,15 @@ def analyse(
                 f"hover ({100 * b.hover.throttle:.0f} %) sits above cruise ({100 * cruise:.0f} %) "
                 f"at the {b.pack_state} pack"
             )
+    for state in pack_states:  # past the pack's maximum-power point the rate falls with throttle
+        grid = np.linspace(idle, throttle_max, 65)
+        rate = drive.rotor_hz(grid, state)
+        if np.any(np.diff(rate) < 0):
+            peak = float(grid[int(np.argmax(rate))])
+            found_notes.append(
+                f"at the {state} pack the rotor rate peaks near {100 * peak:.0f} % throttle (pack sag wins above "
+                "it); windows are solved on the rising side only"
+            )
     assumed = [m.name for m in modes if m.damping is None]
     if assumed:
         found_notes.append(

@@ -373,3 +373,26 @@ def test_catalog_frames_run(base_build, frame_id):
     base_build["frame"] = {"catalog": frame_id, "motors": 4, "mass": "690 g"}
     result = check_build(parse_build(base_build))
     assert len(result.modes) == len(load_catalog("frames")[frame_id]["modes"])
+
+
+def test_note_when_rotor_rate_peaks_before_max_throttle():
+    # derived: with pack sag the steady state d·V = Ke·ω + I·(R_m + N·d²·R_pack)
+    # has dω/dd = (V − 2·N·d·R_pack·I)/(...), which turns negative once
+    # 2·N·d·R_pack·I exceeds V; a soft pack on a big prop gets there.
+    from clashcheck.build import parse_build
+    from clashcheck.clash import check_build
+
+    data = {
+        "frame": {"motors": 4, "mass": "900 g",
+                  "modes": [{"name": "arm", "frequency": "150 Hz", "damping": 0.03}]},
+        "motor": {"kv": "2500 rpm/V", "poles": 14, "slots": 12, "resistance": "30 mohm"},
+        "prop": {"diameter": "10 in", "blades": 2, "thrust_coefficient": 0.11, "power_coefficient": 0.045},
+        "battery": {"cells": 8, "chemistry": "lipo", "cell_resistance": "40 mohm"},
+    }
+    build = parse_build(data)
+    drive = build.drive()
+    grid = np.linspace(build.flight.idle, build.flight.max, 200)
+    rate = drive.rotor_hz(grid, "full")
+    assert np.any(np.diff(rate) < 0)  # the premise: the rate does fall somewhere
+    notes = check_build(build).notes
+    assert any("peaks near" in n and "full pack" in n for n in notes)
