@@ -77,7 +77,8 @@ def brute_force(cand):
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("--build", default=str(ROOT / "examples" / "freestyle-5in.toml"))
-    parser.add_argument("--kv-count", type=int, default=3335, help="Kv values in the sweep (3335 → 100050 candidates)")
+    parser.add_argument("--kv-count", type=int, default=3335,
+                        help="Kv values in the sweep (3335 → 100050 candidates)")
     parser.add_argument("--subset", type=int, default=1000, help="candidates in the brute-force loop")
     parser.add_argument("--seed", type=int, default=20261120)
     args = parser.parse_args(argv)

@@ -134,7 +134,13 @@ def _mode_rows(cmp) -> list[list[str]]:
             if mr is None:
                 row += ["-", "-", "-"]
                 continue
-            freq = f"{mr.mode.frequency_hz:.0f}" + (" (shifted)" if mr.mode.origin == "shifted" else "")
+            freq = f"{mr.mode.frequency_hz:.0f}"
+            if mr.mode.origin == "shifted":
+                d = mr.mode.details
+                freq = f"{d['old_frequency_hz']:.0f} → {freq} (shifted"
+                if isinstance(d.get("old_damping"), float) and isinstance(d.get("new_damping"), float):
+                    freq += f"; ζ {d['old_damping']:.3f} → {d['new_damping']:.3f}"
+                freq += ")"
             row += [freq, _ranges(mr), mr.verdict]
         rows.append(row)
     return rows
@@ -205,6 +211,10 @@ class _Doc:
 
     def bullets(self, items, mark: str = "-") -> None:
         self.lines += [("- " if self.md else f"  {mark} ") + str(i) for i in items]
+        self.lines.append("")
+
+    def numbered(self, items) -> None:
+        self.lines += [(f"{i}. " if self.md else f"  {i}. ") + str(x) for i, x in enumerate(items, start=1)]
         self.lines.append("")
 
     def table(self, rows, headers) -> None:
@@ -344,7 +354,7 @@ def render_pick(res, fmt: str) -> str:
              f"{100 * low:.0f}–{100 * high:.0f} % at every pack state (else marked (!)); then the lowest peak "
              "weighted response (order weight × single-degree-of-freedom magnification over the operating band).")
     doc.section("Reasons")
-    doc.bullets([f"{p.rank}. {p.label}: " + "; ".join(p.reasons) for p in res.top])
+    doc.numbered([f"{p.label}: " + "; ".join(p.reasons) for p in res.top])
     if res.notes:
         doc.section("Notes")
         doc.bullets(res.notes)

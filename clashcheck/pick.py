@@ -300,7 +300,7 @@ def search_space(
     props : "catalog" or sequence of ids, optional
         Propellers to try.
     max_prop_diameter_m : float, optional
-        Largest propeller that fits [m] (with ``props="catalog"`` or the default).
+        Largest propeller that fits [m]; on its own it implies ``props="catalog"``.
     cells : sequence of int, optional
         Cell counts to try.
     pins : iterable of str, optional
@@ -322,6 +322,8 @@ def search_space(
         if p not in PIN_NAMES:
             raise InputError("pick --pin", "one of " + ", ".join(PIN_NAMES), p)
     catalog_wanted = motors == "catalog" or bool(stators) or max_motor_mass_kg is not None
+    if props is None and max_prop_diameter_m is not None:
+        props = "catalog"
     if motors not in (None, "catalog"):
         raise InputError("pick --motors", "'catalog'", motors)
     searched = {
@@ -405,8 +407,6 @@ def search_space(
         if not prop_axis:
             raise InputError("pick props", "at least one propeller that fits (an empty candidate set)", "none",
                              "raise --max-prop-diameter or name props with --props")
-    elif max_prop_diameter_m is not None:
-        raise InputError("pick --max-prop-diameter", "--props with it", "no --props")
     cell_axis = tuple(int(c) for c in dict.fromkeys(cells)) if cells else (build.pack.cells,)
     pole_axis = tuple(int(p) for p in dict.fromkeys(poles))
     if pins:
@@ -1003,6 +1003,11 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
             )
         elif build.motor.mass_kg is None or build.prop.mass_kg is None:
             notes.append("arm modes not shifted: the build's motor or propeller mass is not known")
+    if build.flight.hover is not None:
+        notes.append(
+            f"the stated hover ({100 * build.flight.hover:.0f} %) belongs to the build's own parts: candidates "
+            "whose propeller has a C_T get a computed hover instead"
+        )
     clear = int(np.sum(scores.band_clear & scores.flies))
     return PickResult(build.name, space.size, clear, tuple(picks), space.hover_range, space, scores,
                       tuple(notes))

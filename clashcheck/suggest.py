@@ -206,8 +206,8 @@ def _hover_inside(build, result, key, windows):
         res, clears = _verify(replace(build, mass_kg=mass), key)
         masses.append((mass, mass / build.mass_kg - 1, res, clears))
     (m_dn, d_dn, mr_dn, k_dn), (m_up, d_up, mr_up, k_up) = masses
-    text = (f"Hover rotor rate goes as √(all-up mass): at hover, {key[1]} leaves the margin of {key[0]} at an all-up mass "
-            f"of at most {1e3 * m_dn:.0f} g ({100 * d_dn:+.0f} %; {_after(mr_dn, k_dn)}) or at least "
+    text = (f"Hover rotor rate goes as √(all-up mass): at hover, {key[1]} leaves the margin of {key[0]} "
+            f"at an all-up mass of at most {1e3 * m_dn:.0f} g ({100 * d_dn:+.0f} %; {_after(mr_dn, k_dn)}) or at least "
             f"{1e3 * m_up:.0f} g ({100 * d_up:+.0f} %; {_after(mr_up, k_up)}), with the change in payload or "
             f"pack, not at the arm tips (that would move the arm modes too).")
     best = min(masses, key=lambda t: (not t[3], abs(t[1])))
