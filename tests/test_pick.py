@@ -335,6 +335,8 @@ def test_cli_pick_json_and_errors(tmp_path):
         (["--stator", "9999"], "empty candidate set"),
         (["--kv-from", "2000 rpm/V", "--kv-to", "1500 rpm/V"], "empty candidate set"),
         (["--cells", "four"], "cells"),
+        (["--cells", "4,6", "-o", str(tmp_path / "missing" / "pick.md")], "does not exist"),
+        (["--cells", "4,6", "-o", str(path)], "input"),
     ]:
         res = runner.invoke(main, ["pick", str(path), *args])
         assert res.exit_code == 2, (args, res.output)
