@@ -39,6 +39,8 @@ __all__ = [
     "parse_build",
     "load_modes_file",
     "parse_mode",
+    "parse_motor",
+    "parse_prop",
     "MAX_FILE_BYTES",
 ]
 
@@ -309,7 +311,8 @@ def _parse_frame(raw: dict[str, Any]) -> tuple[int, float, list[Mode], dict[str,
     return motors, mass, modes, arm
 
 
-def _parse_motor(raw: dict[str, Any]) -> Motor:
+def parse_motor(raw: dict[str, Any]) -> Motor:
+    """A ``[motor]`` table (or ``{"catalog": id}`` plus overrides) → :class:`~clashcheck.motor.Motor`."""
     where = "motor"
     raw = _merge_catalog(raw, "motors", where, _MOTOR_KEYS)
     kv = f.quantity(raw, "kv", where, "rpm/V", "1750 rpm/V", required=True, minimum=0.0, exclusive_minimum=True,
@@ -332,7 +335,8 @@ def _parse_motor(raw: dict[str, Any]) -> Motor:
     return Motor(kv, poles, slots, resistance or 0.0, current or 0.0, mass)
 
 
-def _parse_prop(raw: dict[str, Any]) -> Propeller:
+def parse_prop(raw: dict[str, Any]) -> Propeller:
+    """A ``[prop]`` table (or ``{"catalog": id}`` plus overrides) → :class:`~clashcheck.propeller.Propeller`."""
     where = "prop"
     raw = _merge_catalog(raw, "props", where, _PROP_KEYS)
     diameter = f.quantity(raw, "diameter", where, "m", "5.1 in", required=True, minimum=0.01, maximum=2.0,
@@ -484,8 +488,8 @@ def parse_build(data: dict[str, Any], *, path: str | None = None) -> Build:
     f.text(data, "description", "", max_length=2000)
     frame = f.table(data, "frame", "", required=True)
     motors, mass, modes, arm_raw = _parse_frame(frame)  # type: ignore[arg-type]
-    motor = _parse_motor(f.table(data, "motor", "", required=True))  # type: ignore[arg-type]
-    prop = _parse_prop(f.table(data, "prop", "", required=True))  # type: ignore[arg-type]
+    motor = parse_motor(f.table(data, "motor", "", required=True))  # type: ignore[arg-type]
+    prop = parse_prop(f.table(data, "prop", "", required=True))  # type: ignore[arg-type]
     pack = _parse_battery(f.table(data, "battery", "", required=True))  # type: ignore[arg-type]
     sensor = _parse_sensor(f.table(data, "sensor", ""))
     flight, notes = _parse_flight(f.table(data, "flight", ""))

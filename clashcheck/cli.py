@@ -32,6 +32,11 @@ class _Group(click.Group):
     def invoke(self, ctx: click.Context):
         try:
             return super().invoke(ctx)
+        except click.exceptions.NoArgsIsHelpError:
+            raise
+        except click.UsageError as exc:  # one line, not the usage block
+            where = exc.ctx.command_path if exc.ctx is not None else "clashcheck"
+            raise _InputFailure(f"{exc.format_message()} (see '{where} --help')") from None
         except ClashcheckError as exc:
             raise _InputFailure(str(exc)) from None
         except UnicodeDecodeError as exc:
@@ -183,7 +188,10 @@ class _Quantity(click.ParamType):
 
     def __init__(self, unit: str, example: str) -> None:
         self.unit, self.example = unit, example
-        self.name = f"'{example}'"
+        self.name = "quantity"
+
+    def get_metavar(self, param, ctx=None) -> str:  # keep the unit's case, e.g. 'rpm/V'
+        return f"'{self.example}'"
 
     def convert(self, value, param, ctx):
         from .errors import InputError

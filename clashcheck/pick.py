@@ -213,7 +213,7 @@ def catalog_motors(
     poles : int, optional
         Keep motors with this pole count (pinned poles).
     """
-    from .build import _parse_motor
+    from .build import parse_motor
     from .catalog import load_catalog
 
     wanted = {str(s) for s in stators}
@@ -221,7 +221,7 @@ def catalog_motors(
     for ident, raw in load_catalog("motors").items():
         if wanted and str(raw.get("stator", "")) not in wanted:
             continue
-        motor = _parse_motor({"catalog": ident})
+        motor = parse_motor({"catalog": ident})
         if max_mass_kg is not None and (motor.mass_kg is None or motor.mass_kg > max_mass_kg):
             continue
         if min_mass_kg is not None and (motor.mass_kg is None or motor.mass_kg < min_mass_kg):
@@ -240,7 +240,7 @@ def catalog_props(
     max_diameter_m: float | None = None,
 ) -> tuple[PropOption, ...]:
     """Catalog propellers: the ``ids`` given, or all within a diameter range [m]."""
-    from .build import _parse_prop
+    from .build import parse_prop
     from .catalog import entry, load_catalog
 
     if ids:
@@ -251,7 +251,7 @@ def catalog_props(
         chosen = list(load_catalog("props"))
     out = []
     for ident in chosen:
-        prop = _parse_prop({"catalog": ident})
+        prop = parse_prop({"catalog": ident})
         if min_diameter_m is not None and prop.diameter_m < min_diameter_m * (1 - 1e-9):
             continue
         if max_diameter_m is not None and prop.diameter_m > max_diameter_m * (1 + 1e-9):

@@ -17,7 +17,7 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 
-from clashcheck.build import _parse_prop, parse_build
+from clashcheck.build import parse_prop, parse_build
 from clashcheck.clash import check_build
 from clashcheck.cli import main
 from clashcheck.errors import InputError
@@ -219,7 +219,7 @@ def test_vectorised_matches_brute_force(text):
     kv_rpm = (1500, 1900, 2300)
     props_ids = ("5in-3b-low", "5in-3b-mid", "5in-4b", "5in-2b")
     space = _space(base, kv_rpm=kv_rpm, props=props_ids)
-    props = [_parse_prop({"catalog": p}) for p in props_ids]
+    props = [parse_prop({"catalog": p}) for p in props_ids]
     rows = _brute_force(base, [k / 60 for k in kv_rpm], (12, 14), props, (4, 6))
     scores = score_candidates(base, space, block=7)          # odd block size: block edges must not matter
     assert space.size == len(rows) == 48
