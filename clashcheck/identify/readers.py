@@ -1,0 +1,539 @@
+"""Recording readers: CSV with a header row, WAV and NumPy ``.npy``.
+
+Each reader streams its file in blocks of rows, so memory does not grow with
+the length of the recording.
+
+- **CSV** is read with chunked :func:`pandas.read_csv` when pandas is installed
+  (the fastest well-kept CSV parser on the target machines, about four times
+  faster than the fallback) and otherwise with :func:`numpy.loadtxt` fed one
+  block of lines at a time.  Both paths give the same numbers.
+- **WAV** is memory-mapped through :func:`scipy.io.wavfile.read` (mono or
+  multi-channel; int16, int32 or float).  Integer samples are scaled to a full
+  scale of 1.0, so clipping can be judged against the converter's range.
+- **.npy** is memory-mapped with :func:`numpy.load`; a 1-D or 2-D float array,
+  or a structured array whose field names act as column names.
+
+A malformed file raises :class:`~clashcheck.errors.RecordingError` naming the
+file, the row or byte, and the problem.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+import os
+import re
+from collections.abc import Callable, Iterator, Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..errors import InputError, RecordingError
+
+__all__ = [
+    "Columns",
+    "Block",
+    "Recording",
+    "open_recording",
+    "RPM_UNITS",
+    "BLOCK_ROWS",
+]
+
+#: Rows per block handed to the analysis (about 6 MB of float64 for 3 axes).
+BLOCK_ROWS = 1 << 18
+
+#: Units accepted for rotor-rate columns.
+RPM_UNITS = ("rpm", "Hz", "erpm")
+
+
+@dataclass(frozen=True)
+class Columns:
+    """Which columns of a recording carry what.
+
+    Signals are named by header (CSV, structured ``.npy``) or by 0-based index
+    written as text (WAV channels, plain ``.npy`` columns).  ``None`` means
+    "every channel" for WAV and plain ``.npy``.
+    """
+
+    #: Signal column names or indices (as text); ``None`` for all channels.
+    signals: tuple[str, ...] | None = None
+    #: Column holding the sample time; ``None`` when the rate is stated.
+    time_column: str | None = None
+    #: Seconds per unit of the time column (1.0 for seconds, 1e-6 for µs).
+    time_scale_s: float = 1.0
+    #: Stated sample rate [Hz]; ``None`` when it comes from the file.
+    sample_rate_hz: float | None = None
+    #: Column holding the throttle (fraction 0–1 or percent 0–100).
+    throttle_column: str | None = None
+    #: Columns holding rotor rates, one per motor; averaged.
+    rpm_columns: tuple[str, ...] = ()
+    #: Multiply rotor-rate column values by this to get rotor rate [Hz].
+    rpm_scale_hz: float = 1.0 / 60.0
+
+    def __post_init__(self) -> None:
+        if self.signals is not None and len(self.signals) == 0:
+            raise InputError("--signal", "at least one signal column", "")
+        if self.time_column is not None and self.sample_rate_hz is not None:
+            raise InputError(
+                "--rate", "either --time-column or --rate, not both", self.sample_rate_hz
+            )
+        if self.sample_rate_hz is not None and not (
+            math.isfinite(self.sample_rate_hz) and self.sample_rate_hz > 0
+        ):
+            raise InputError("--rate", "a sample rate above 0 Hz", self.sample_rate_hz)
+        if not (math.isfinite(self.time_scale_s) and self.time_scale_s > 0):
+            raise InputError("--time-unit", "a unit of time", self.time_scale_s)
+        if not (math.isfinite(self.rpm_scale_hz) and self.rpm_scale_hz > 0):
+            raise InputError("--rpm-unit", "one of " + ", ".join(RPM_UNITS), self.rpm_scale_hz)
+
+
+@dataclass
+class Block:
+    """One block of consecutive rows, as plain float64 arrays."""
+
+    #: 0-based index of the block's first data row (header not counted).
+    first_row: int
+    #: Sample times [s], or ``None`` when the rate is stated.
+    time_s: np.ndarray | None
+    #: Signals, shape (rows, channels).
+    signals: np.ndarray
+    #: Throttle as read (fraction or percent), or ``None``.
+    throttle: np.ndarray | None = None
+    #: Rotor rate [Hz] averaged over the rotor-rate columns, or ``None``.
+    rotor_hz: np.ndarray | None = None
+
+
+@dataclass
+class Recording:
+    """An opened recording: what it holds and how to stream it.
+
+    Use :func:`open_recording` to make one.
+    """
+
+    #: The file.
+    path: str
+    #: ``"csv"``, ``"wav"`` or ``"npy"``.
+    format: str
+    #: Names of the signal channels, in order.
+    signal_names: tuple[str, ...]
+    #: Sample rate [Hz] when known up front (WAV header or stated rate).
+    sample_rate_hz: float | None
+    #: Full scale of the signals after reading (1.0 for integer WAV), or ``None``.
+    full_scale: float | None
+    #: Number of data rows, exact for WAV/.npy and estimated for CSV.
+    rows_estimate: int
+    #: True when a throttle column is present.
+    has_throttle: bool
+    #: True when rotor-rate columns are present.
+    has_rotor: bool
+    _blocks: Callable[[int], Iterator[Block]] = field(repr=False, default=None)  # type: ignore[assignment]
+
+    def blocks(self, block_rows: int = BLOCK_ROWS) -> Iterator[Block]:
+        """Stream the recording in blocks of at most ``block_rows`` rows."""
+        return self._blocks(block_rows)
+
+    def read_all(self) -> Block:
+        """Read the whole recording into one block (for short recordings)."""
+        parts = list(self.blocks())
+        if not parts:
+            raise RecordingError(self.path, "", "the file holds no data rows")
+
+        def cat(name: str) -> np.ndarray | None:
+            vals = [getattr(p, name) for p in parts]
+            return None if vals[0] is None else np.concatenate(vals)
+
+        return Block(0, cat("time_s"), np.concatenate([p.signals for p in parts]),
+                     cat("throttle"), cat("rotor_hz"))
+
+
+def open_recording(path: str | os.PathLike[str], columns: Columns) -> Recording:
+    """Open a recording for streaming.
+
+    Parameters
+    ----------
+    path : str or path-like
+        A ``.csv`` (or ``.txt``), ``.wav`` or ``.npy`` file.
+    columns : Columns
+        Which columns carry the signals, the time, the throttle and rotor rates.
+
+    Returns
+    -------
+    Recording
+
+    Raises
+    ------
+    RecordingError
+        If the file is malformed or lacks a named column.
+    InputError
+        If the file type is unknown or the column options do not fit it.
+    """
+    text = os.fspath(path)
+    if not os.path.isfile(text):
+        raise RecordingError(text, "", "no such file")
+    ext = os.path.splitext(text)[1].lower()
+    if ext in (".csv", ".txt", ".tsv"):
+        return _open_csv(text, columns)
+    if ext == ".wav":
+        return _open_wav(text, columns)
+    if ext == ".npy":
+        return _open_npy(text, columns)
+    raise InputError("RECORDING", "a .csv, .wav or .npy file", text)
+
+
+# --------------------------------------------------------------------------- CSV
+
+_PANDAS_LINE = re.compile(r"line (\d+)")
+
+
+def _pandas():
+    """pandas if installed, else ``None`` (module-level hook so tests can hide it)."""
+    try:
+        import pandas
+    except ImportError:
+        return None
+    return pandas
+
+
+def _sniff_csv(path: str) -> tuple[list[str], str, int]:
+    """Header names, delimiter and an estimate of the number of data rows."""
+    with open(path, "rb") as fh:
+        head = fh.read(1 << 16)
+    if not head.strip():
+        raise RecordingError(path, "row 1", "the file is empty; a header row was expected")
+    if b"\x00" in head:
+        pos = head.index(b"\x00")
+        raise RecordingError(path, f"byte {pos}", "a NUL byte; this is not a text CSV file")
+    try:
+        text = head.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        if exc.start < len(head) - 4:
+            raise RecordingError(path, f"byte {exc.start}", "not UTF-8 text") from None
+        text = head[: exc.start].decode("utf-8")
+    lines = text.splitlines()
+    header = lines[0].lstrip("\ufeff")
+    delim = ","
+    for cand in (",", ";", "\t"):
+        if cand in header:
+            delim = cand
+            break
+    names = [h.strip() for h in header.split(delim)]
+    if any(not n for n in names) or len(set(names)) != len(names):
+        raise RecordingError(path, "row 1", f"the header row has empty or repeated names: {header!r}")
+    sample = [ln for ln in lines[1:-1] if ln.strip()][:200]
+    size = os.path.getsize(path)
+    if sample:
+        per_row = sum(len(s) + 1 for s in sample) / len(sample)
+        rows = int((size - len(header) - 1) / per_row)
+    else:
+        rows = max(len(lines) - 1, 0)
+    try:
+        float(names[0])
+        raise RecordingError(path, "row 1", "a header row with column names was expected, not numbers")
+    except ValueError:
+        pass
+    return names, delim, max(rows, 1)
+
+
+def _pick(path: str, names: Sequence[str], wanted: str, what: str) -> int:
+    try:
+        return list(names).index(wanted)
+    except ValueError:
+        shown = ", ".join(names[:12])
+        raise RecordingError(
+            path, "row 1", f"no {what} column {wanted!r}; the header has: {shown}"
+        ) from None
+
+
+def _layout(path: str, names: Sequence[str], columns: Columns, default_signals: bool):
+    """Column indices for time, signals, throttle and rotor rates."""
+    if columns.signals is None:
+        if not default_signals:
+            raise InputError("--signal", "the signal column names, e.g. 'gx,gy,gz'", None)
+        used = {columns.time_column, columns.throttle_column, *columns.rpm_columns}
+        sig_names = [n for n in names if n not in used]
+    else:
+        sig_names = list(columns.signals)
+    sig = [_pick(path, names, s, "signal") for s in sig_names]
+    tcol = None if columns.time_column is None else _pick(path, names, columns.time_column, "time")
+    thr = (
+        None if columns.throttle_column is None
+        else _pick(path, names, columns.throttle_column, "throttle")
+    )
+    rpm = [_pick(path, names, r, "rotor-rate") for r in columns.rpm_columns]
+    return tcol, sig, thr, rpm, [names[i] for i in sig]
+
+
+def _split(arr: np.ndarray, first_row: int, tcol, sig, thr, rpm, columns: Columns) -> Block:
+    """Turn a (rows, used columns) array into a Block; columns in ``order``."""
+    time_s = None if tcol is None else arr[:, tcol] * columns.time_scale_s
+    throttle = None if thr is None else arr[:, thr]
+    rotor = None
+    if rpm:
+        rotor = arr[:, rpm].mean(axis=1) * columns.rpm_scale_hz
+    return Block(first_row, time_s, np.ascontiguousarray(arr[:, sig]), throttle, rotor)
+
+
+def _open_csv(path: str, columns: Columns) -> Recording:
+    names, delim, rows = _sniff_csv(path)
+    if columns.time_column is None and columns.sample_rate_hz is None:
+        raise InputError(
+            "--time-column", "a time column (--time-column t) or a sample rate (--rate '8 kHz')",
+            None, "a CSV recording needs one of them",
+        )
+    tcol, sig, thr, rpm, sig_names = _layout(path, names, columns, default_signals=False)
+    used = sorted({i for i in [tcol, thr, *sig, *rpm] if i is not None})
+    pos = {c: k for k, c in enumerate(used)}
+    remap = (
+        None if tcol is None else pos[tcol],
+        [pos[i] for i in sig],
+        None if thr is None else pos[thr],
+        [pos[i] for i in rpm],
+    )
+    ncols = len(names)
+
+    def blocks(block_rows: int) -> Iterator[Block]:
+        pd = _pandas()
+        if pd is not None:
+            yield from _csv_blocks_pandas(pd, path, delim, used, ncols, block_rows, remap, columns)
+        else:
+            yield from _csv_blocks_numpy(path, delim, used, ncols, block_rows, remap, columns)
+
+    return Recording(path, "csv", tuple(sig_names), columns.sample_rate_hz, None, rows,
+                     thr is not None, bool(rpm), blocks)
+
+
+def _csv_blocks_pandas(pd, path, delim, used, ncols, block_rows, remap, columns) -> Iterator[Block]:
+    first = 0
+    try:
+        reader = pd.read_csv(
+            path, sep=delim, usecols=used, header=0, chunksize=block_rows, dtype=np.float64,
+            engine="c", skip_blank_lines=True, encoding="utf-8",
+        )
+        with reader:
+            while True:
+                try:
+                    chunk = next(reader)
+                except StopIteration:
+                    break
+                except ValueError as exc:  # a cell that is not a number
+                    _raise_bad_cell(path, delim, used, first, block_rows, exc)
+                arr = chunk.to_numpy(dtype=np.float64, copy=False)
+                yield _split(arr, first, *remap, columns)
+                first += arr.shape[0]
+    except pd.errors.ParserError as exc:
+        match = _PANDAS_LINE.search(str(exc))
+        where = f"row {match.group(1)}" if match else ""
+        detail = str(exc).split("C error: ")[-1].strip()
+        raise RecordingError(path, where, f"malformed row ({detail})") from None
+    except pd.errors.EmptyDataError:
+        raise RecordingError(path, "row 1", "the file is empty; a header row was expected") from None
+    except UnicodeDecodeError as exc:
+        raise RecordingError(path, f"byte {exc.start}", "not UTF-8 text") from None
+
+
+def _raise_bad_cell(path, delim, used, first, block_rows, exc) -> None:
+    """Find the first non-numeric cell of a block by reading it again as text."""
+    with open(path, encoding="utf-8", errors="replace") as fh:
+        next(fh)
+        for _ in range(first):
+            next(fh)
+        for k, line in enumerate(itertools.islice(fh, block_rows)):
+            cells = line.rstrip("\r\n").split(delim)
+            for c in used:
+                cell = cells[c].strip() if c < len(cells) else ""
+                if cell == "":
+                    continue
+                try:
+                    float(cell)
+                except ValueError:
+                    raise RecordingError(
+                        path, f"row {first + k + 2}", f"{cell[:30]!r} is not a number"
+                    ) from None
+    raise RecordingError(path, f"rows {first + 2}–{first + block_rows + 1}", f"unreadable ({exc})")
+
+
+_LOADTXT_ROW = re.compile(r"row (\d+)", re.IGNORECASE)
+
+
+def _csv_blocks_numpy(path, delim, used, ncols, block_rows, remap, columns) -> Iterator[Block]:
+    first = 0
+    with open(path, encoding="utf-8", newline="") as fh:
+        try:
+            next(fh)
+        except StopIteration:
+            return
+        while True:
+            lines = list(itertools.islice(fh, block_rows))
+            if not lines:
+                return
+            arr = _loadtxt_block(path, lines, delim, used, ncols, first)
+            yield _split(arr, first, *remap, columns)
+            first += len(lines)
+
+
+def _loadtxt_block(path, lines, delim, used, ncols, first) -> np.ndarray:
+    try:
+        return np.loadtxt(lines, delimiter=delim, usecols=used, ndmin=2, dtype=np.float64,
+                          comments=None)
+    except ValueError:
+        pass
+    # Slow path for a troubled block: blank cells become NaN (gaps), anything
+    # else that is not a number is reported with its row.
+    out = np.full((len(lines), len(used)), np.nan)
+    kept = np.ones(len(lines), dtype=bool)
+    for k, line in enumerate(lines):
+        if not line.strip():  # blank lines are skipped, as loadtxt and pandas do
+            kept[k] = False
+            continue
+        cells = line.rstrip("\r\n").split(delim)
+        if len(cells) > ncols:
+            raise RecordingError(
+                path, f"row {first + k + 2}",
+                f"malformed row (expected {ncols} fields, saw {len(cells)})",
+            )
+        for j, c in enumerate(used):
+            cell = cells[c].strip() if c < len(cells) else ""
+            if cell == "":
+                out[k, j] = np.nan
+                continue
+            try:
+                out[k, j] = float(cell)
+            except ValueError:
+                raise RecordingError(
+                    path, f"row {first + k + 2}", f"{cell[:30]!r} is not a number"
+                ) from None
+    return out[kept]
+
+
+# --------------------------------------------------------------------------- WAV
+
+def _open_wav(path: str, columns: Columns) -> Recording:
+    import warnings
+
+    from scipy.io import wavfile
+
+    with open(path, "rb") as fh:
+        head = fh.read(12)
+    if len(head) < 12 or head[:4] not in (b"RIFF", b"RF64"):
+        raise RecordingError(path, "byte 0", "not a RIFF/WAV file (no 'RIFF' mark)")
+    if head[8:12] != b"WAVE":
+        raise RecordingError(path, "byte 8", "a RIFF file but not WAVE audio")
+    if columns.time_column is not None or columns.throttle_column or columns.rpm_columns:
+        raise InputError("--time-column", "no time, throttle or rotor-rate column for a WAV file",
+                         columns.time_column or columns.throttle_column or columns.rpm_columns)
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", wavfile.WavFileWarning)
+            rate, data = wavfile.read(path, mmap=True)
+    except wavfile.WavFileWarning as exc:
+        raise RecordingError(path, "header", f"damaged WAV file ({exc})") from None
+    except ValueError as exc:
+        msg = str(exc)
+        if "mmap" in msg.lower() or "24" in msg:
+            try:
+                with warnings.catch_warnings():
+                    warnings.simplefilter("error", wavfile.WavFileWarning)
+                    rate, data = wavfile.read(path, mmap=False)
+            except (ValueError, wavfile.WavFileWarning) as exc2:
+                raise RecordingError(path, "header", f"unreadable WAV file ({exc2})") from None
+        else:
+            raise RecordingError(path, "header", f"unreadable WAV file ({msg})") from None
+    if data.ndim == 1:
+        data = data[:, None]
+    nch = data.shape[1]
+    kind = data.dtype.kind
+    if kind == "i":
+        scale = 1.0 / float(2 ** (8 * data.dtype.itemsize - 1))
+        full_scale: float | None = 1.0
+    elif kind == "u":  # 8-bit WAV is unsigned with offset 128
+        scale = 1.0 / 128.0
+        full_scale = 1.0
+    elif kind == "f":
+        scale = 1.0
+        full_scale = 1.0
+    else:
+        raise RecordingError(path, "header", f"unsupported sample type {data.dtype}")
+    idx = _channel_indices(path, columns.signals, nch, "channel")
+    if data.shape[0] == 0:
+        raise RecordingError(path, "byte 44", "the WAV file holds no samples")
+
+    def blocks(block_rows: int) -> Iterator[Block]:
+        for start in range(0, data.shape[0], block_rows):
+            part = np.asarray(data[start:start + block_rows][:, idx], dtype=np.float64)
+            if kind == "u":
+                part = part - 128.0
+            yield Block(start, None, part * scale)
+
+    names = tuple(f"ch{i}" for i in idx)
+    return Recording(path, "wav", names, float(rate), full_scale, data.shape[0], False, False,
+                     blocks)
+
+
+def _channel_indices(path: str, wanted: tuple[str, ...] | None, nch: int, what: str) -> list[int]:
+    if wanted is None:
+        return list(range(nch))
+    out = []
+    for w in wanted:
+        text = w.removeprefix("ch")
+        if not text.isdigit() or int(text) >= nch:
+            raise InputError("--signal", f"{what} numbers 0–{nch - 1} (e.g. '0,1')", w)
+        out.append(int(text))
+    return out
+
+
+# --------------------------------------------------------------------------- NPY
+
+def _open_npy(path: str, columns: Columns) -> Recording:
+    try:
+        data = np.load(path, mmap_mode="r", allow_pickle=False)
+    except (ValueError, OSError, EOFError) as exc:
+        msg = str(exc).splitlines()[0]
+        raise RecordingError(path, "header", f"unreadable .npy file ({msg})") from None
+    if not isinstance(data, np.ndarray):
+        raise RecordingError(path, "header", "not a single .npy array")
+    if data.dtype.names:
+        names = list(data.dtype.names)
+        tcol, sig, thr, rpm, sig_names = _layout(path, names, columns, default_signals=True)
+        fields = names
+
+        def get(rows, i):
+            return np.asarray(rows[fields[i]], dtype=np.float64)
+
+        nrows = data.shape[0]
+        if data.ndim != 1:
+            raise RecordingError(path, "header", "a structured array must be 1-D")
+    else:
+        if data.dtype.kind not in "iuf":
+            raise RecordingError(path, "header", f"unsupported array type {data.dtype}")
+        if data.ndim == 1:
+            data = data[:, None]
+        if data.ndim != 2:
+            raise RecordingError(path, "header", f"expected a 1-D or 2-D array, got {data.ndim}-D")
+        names = [str(i) for i in range(data.shape[1])]
+        tcol, sig, thr, rpm, sig_names = _layout(path, names, columns, default_signals=True)
+
+        def get(rows, i):
+            return np.asarray(rows[:, i], dtype=np.float64)
+
+        nrows = data.shape[0]
+    if columns.time_column is None and columns.sample_rate_hz is None:
+        raise InputError(
+            "--rate", "a sample rate (--rate '8 kHz') or a time column (--time-column)", None,
+            "a .npy recording needs one of them",
+        )
+    if nrows == 0:
+        raise RecordingError(path, "header", "the array holds no rows")
+
+    def blocks(block_rows: int) -> Iterator[Block]:
+        for start in range(0, nrows, block_rows):
+            rows = data[start:start + block_rows]
+            sigs = np.column_stack([get(rows, i) for i in sig])
+            time_s = None if tcol is None else get(rows, tcol) * columns.time_scale_s
+            throttle = None if thr is None else get(rows, thr)
+            rotor = None
+            if rpm:
+                rotor = np.mean([get(rows, i) for i in rpm], axis=0) * columns.rpm_scale_hz
+            yield Block(start, time_s, sigs, throttle, rotor)
+
+    return Recording(path, "npy", tuple(sig_names), columns.sample_rate_hz, None, nrows,
+                     thr is not None, bool(rpm), blocks)

@@ -1,0 +1,108 @@
+"""Result dataclasses of a recording analysis (no presentation here)."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from ..errors import InputError
+from ..modes import MODE_AXES
+
+__all__ = ["MeasuredMode", "OrderStrength", "ModesResult", "ORDER_FAMILIES", "KINDS"]
+
+#: Families an order strength can carry (``custom`` when the family is not known).
+ORDER_FAMILIES = ("rotor", "blade", "electrical", "commutation", "cogging", "custom")
+#: Kinds of recording.
+KINDS = ("tap", "flight")
+
+
+@dataclass(frozen=True)
+class MeasuredMode:
+    """One frame mode found in a recording."""
+
+    #: Name, e.g. ``"mode 2"``; unique within a result.
+    name: str
+    #: Undamped natural frequency [Hz].
+    frequency_hz: float
+    #: Best estimate of the damping ratio ζ; ``None`` when only a bound is known.
+    damping: float | None
+    #: Lower end of the ζ interval.
+    damping_low: float
+    #: Upper end of the ζ interval (the bound when ``damping`` is ``None``).
+    damping_high: float
+    #: roll, pitch, yaw or any.
+    axis: str
+    #: Confidence that this is a real frame mode with these figures, 0–1.
+    confidence: float
+    #: How the figures were found, in words.
+    method: str
+    #: ζ from the half-power bandwidth (window-corrected), if found.
+    damping_half_power: float | None = None
+    #: ζ from the decay fit, if found (tap tests).
+    damping_decay: float | None = None
+    #: Height of the peak above the spectrum's noise floor [dB].
+    prominence_db: float = 0.0
+
+    def __post_init__(self) -> None:
+        if not (math.isfinite(self.frequency_hz) and self.frequency_hz > 0):
+            raise InputError(f"mode {self.name!r}.frequency_hz", "a frequency above 0", self.frequency_hz)
+        if self.damping is not None and not 0 < self.damping < 1:
+            raise InputError(f"mode {self.name!r}.damping", "a ratio in (0, 1)", self.damping)
+        if not 0 <= self.damping_low <= self.damping_high < 1:
+            raise InputError(f"mode {self.name!r}.damping interval", "0 ≤ low ≤ high < 1",
+                             (self.damping_low, self.damping_high))
+        if self.axis not in MODE_AXES:
+            raise InputError(f"mode {self.name!r}.axis", "one of " + ", ".join(MODE_AXES), self.axis)
+        if not 0 <= self.confidence <= 1:
+            raise InputError(f"mode {self.name!r}.confidence", "a number in [0, 1]", self.confidence)
+
+
+@dataclass(frozen=True)
+class OrderStrength:
+    """How strongly one motor order showed in a flight recording."""
+
+    #: Order: multiple of the rotor rate.
+    order: float
+    #: Family: rotor, blade, electrical, commutation, cogging or custom.
+    family: str
+    #: RMS amplitude relative to the strongest measured order (strongest = 1.0).
+    relative_strength: float
+    #: Spectral segments in which the order lay inside the analysed band.
+    segments: int = 0
+
+    def __post_init__(self) -> None:
+        if self.family not in ORDER_FAMILIES:
+            raise InputError("order.family", "one of " + ", ".join(ORDER_FAMILIES), self.family)
+        if not (self.order > 0 and 0 <= self.relative_strength <= 1):
+            raise InputError("order", "order > 0 and strength in [0, 1]",
+                             (self.order, self.relative_strength))
+
+
+@dataclass(frozen=True)
+class ModesResult:
+    """Everything an analysis found in one recording."""
+
+    #: The recording's file name.
+    recording: str
+    #: tap or flight.
+    kind: str
+    #: Main method, in words.
+    method: str
+    #: Sample rate [Hz].
+    sample_rate_hz: float
+    #: Usable duration [s].
+    duration_s: float
+    #: Frequency resolution of the spectra [Hz].
+    resolution_hz: float
+    #: Modes, by frequency.
+    modes: tuple[MeasuredMode, ...]
+    #: Measured order strengths (flight recordings), strongest first.
+    orders: tuple[OrderStrength, ...] = ()
+    #: One sentence per problem found or assumption made.
+    warnings: tuple[str, ...] = ()
+    #: Number of impacts averaged (tap) or spectral segments used (flight).
+    averages: int = 0
+
+    def __post_init__(self) -> None:
+        if self.kind not in KINDS:
+            raise InputError("--kind", "tap or flight", self.kind)
