@@ -427,14 +427,6 @@ def save_campbell(path, datas, *, inputs=()) -> None:
 
 def _check_target(target: Path, inputs) -> None:
     """Refuse an unwritable target before the (slow) drawing; write_output checks again when writing."""
-    from .errors import OutputError
-    from .report import _same_file
+    from .report import check_target
 
-    for inp in inputs:
-        if _same_file(target, Path(inp)):
-            raise OutputError(str(target), "refusing to overwrite an input file")
-    if target.is_dir():
-        raise OutputError(str(target), "is a folder")
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise OutputError(str(target), f"folder {str(folder)!r} does not exist")
+    check_target(target, inputs)

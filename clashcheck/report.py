@@ -27,6 +27,7 @@ __all__ = [
     "render_markdown",
     "render",
     "write_output",
+    "check_target",
     "pct",
     "dump_json",
     "render_catalog",
@@ -343,6 +344,26 @@ def _same_file(a: Path, b: Path) -> bool:
         return False
 
 
+def check_target(path: str | Path, inputs: Iterable[str | Path] = ()) -> Path:
+    """Refuse an output path that is an input, a folder, or in a missing folder.
+
+    Returns
+    -------
+    Path
+        The folder the file will be written in.
+    """
+    target = Path(path)
+    for inp in inputs:
+        if _same_file(target, Path(inp)):
+            raise OutputError(str(path), "refusing to overwrite an input file")
+    if target.is_dir():
+        raise OutputError(str(path), "is a folder")
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise OutputError(str(path), f"folder {str(folder)!r} does not exist")
+    return folder
+
+
 def write_output(path: str | Path, text: str | bytes, inputs: Iterable[str | Path] = ()) -> None:
     """Write ``text`` to ``path`` atomically, never over one of ``inputs``.
 
@@ -355,14 +376,7 @@ def write_output(path: str | Path, text: str | bytes, inputs: Iterable[str | Pat
         When the path is an input, a folder, or cannot be written.
     """
     target = Path(path)
-    for inp in inputs:
-        if _same_file(target, Path(inp)):
-            raise OutputError(str(path), "refusing to overwrite an input file")
-    if target.is_dir():
-        raise OutputError(str(path), "is a folder")
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise OutputError(str(path), f"folder {str(folder)!r} does not exist")
+    folder = check_target(target, inputs)
     data = text.encode("utf-8") if isinstance(text, str) else text
     try:
         fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{target.name}.", suffix=".tmp")
