@@ -123,18 +123,27 @@ class SdofFit:
 def _peak(freq_hz: np.ndarray, power: np.ndarray, i: int) -> tuple[float, float]:
     """Peak frequency and value.
 
-    A parabola is fitted to the log-power of the contiguous bins within 1 dB
-    of the top (at least three bins), so that noise on the single highest bin
-    does not bias the peak level and with it the half-power width.
+    A parabola is fitted to the log-power of the contiguous bins near the top
+    (at least three bins), so that noise on the single highest bin does not
+    bias the peak level and with it the half-power width.
     """
     n = len(power)
     top = power[i]
-    a = i
-    while a > 0 and power[a - 1] >= 0.8 * top and power[a - 1] <= top:
-        a -= 1
-    b = i
-    while b < n - 1 and power[b + 1] >= 0.8 * top and power[b + 1] <= top:
-        b += 1
+
+    def region(frac: float) -> tuple[int, int]:
+        a = i
+        while a > 0 and frac * top <= power[a - 1] <= top:
+            a -= 1
+        b = i
+        while b < n - 1 and frac * top <= power[b + 1] <= top:
+            b += 1
+        return a, b
+
+    # a finely sampled peak is fitted within 0.05 dB of its top (where the log of a
+    # resonance is quadratic to 1e-5); a coarsely sampled one within 1 dB
+    a, b = region(0.9886)
+    if b - a < 14:
+        a, b = region(0.8)
     if b - a < 2:
         a, b = max(0, i - 1), min(n - 1, i + 1)
     if b - a < 2 or np.any(power[a:b + 1] <= 0):
@@ -195,7 +204,13 @@ def half_power_points(
 
 
 def _fit_crossing(freq_hz, power, ip, ic, target, top, side) -> float:
-    """Crossing of ``target`` near bin ``ic`` (first bin past it), on one side of the peak."""
+    """Crossing of ``target`` near bin ``ic`` (first bin past it), on one side of the peak.
+
+    A low-order polynomial is fitted to the bins whose power lies within ±15 %
+    of the peak about the target (out to twice the crossing's distance from
+    the peak), so one noisy bin does not move the crossing; with few such
+    bins, linear interpolation between the two bins that straddle it.
+    """
     f_int = float(np.interp(target, [power[ic], power[ic - side]],
                             [freq_hz[ic], freq_hz[ic - side]]))
     dist = abs(ic - ip)
@@ -205,15 +220,19 @@ def _fit_crossing(freq_hz, power, ip, ic, target, top, side) -> float:
     a, b = sorted((lo_b, hi_b))
     a, b = max(a, 0), min(b, len(power) - 1)
     idx = np.arange(a, b + 1)
-    sel = idx[(power[idx] >= target - 0.2 * top) & (power[idx] <= target + 0.2 * top)]
-    if sel.size < 3:
+    sel = idx[(power[idx] >= target - 0.15 * top) & (power[idx] <= target + 0.15 * top)]
+    if sel.size < 3 or sel.size > 40:  # few bins: interpolate; many: the curve is resolved
         return f_int
-    slope, icpt = np.polyfit(freq_hz[sel], power[sel], 1)
-    if slope == 0 or np.sign(slope) != -side:
+    x = freq_hz[sel] - f_int
+    deg = 3 if sel.size >= 8 else (2 if sel.size >= 5 else 1)
+    coef = np.polyfit(x, power[sel] - target, deg)
+    roots = np.roots(coef)
+    roots = roots[np.isreal(roots)].real
+    if roots.size == 0:
         return f_int
-    f = (target - icpt) / slope
+    f = f_int + float(roots[np.argmin(np.abs(roots))])
     # keep the fit only when it lands near the interpolated crossing
-    if abs(f - f_int) > 0.5 * abs(freq_hz[ic] - freq_hz[ip]):
+    if abs(f - f_int) > 0.25 * abs(freq_hz[ic] - freq_hz[ip]):
         return f_int
     return float(f)
 
