@@ -441,7 +441,8 @@ def _merge_axes(cands, axes, resolution_hz: float, max_modes: int) -> tuple[Meas
         zeta = hp.damping
         conf = min(max((pk.snr_db - 4.0) / 20.0, 0.0), 1.0) * (0.7 if hp.bound_only else 1.0)
         if zeta is not None:
-            method = f"half-power (window-corrected) on the {axis} spectrum, median over rotor-rate bins"
+            method = (f"half-power (window-corrected) on the {axes[ch]} spectrum, median over "
+                      "rotor-rate bins")
         else:
             method = (f"half-power: peak narrower than the {resolution_hz:.3g} Hz resolution, "
                       f"ζ < {hp.damping_high:.4f}")

@@ -88,7 +88,7 @@ def segment_length(sample_rate_hz: float, resolution_hz: float) -> int:
     >>> segment_length(8000.0, 1.0)
     8000
     """
-    n = int(np.ceil(sample_rate_hz / resolution_hz - 1e-9))
+    n = int(np.ceil(sample_rate_hz / resolution_hz - 1e-6))
     return n + (n % 2)
 
 
