@@ -222,7 +222,7 @@ class Conditioner:
         if f.resampled:
             f.warnings.append(
                 f"timestamps jitter by {100 * f.jitter:.2g} % of the sample interval; "
-                f"the samples were resampled onto a uniform {self.fs:g} Hz grid"
+                f"the samples were resampled onto a uniform {self.fs:.1f} Hz grid"
             )
         if self._missing:
             row = (self._first_missing or 0) + 2 if self.rec.format == "csv" else self._first_missing
@@ -323,7 +323,9 @@ class Conditioner:
             if d.size == 0:
                 raise RecordingError(self.rec.path, _row(self.rec, rows[0]),
                                      "too few distinct timestamps to find the sample rate")
-            self._dt = float(np.median(d))
+            d0 = float(np.median(d))
+            steady = d[d <= GAP_FACTOR * d0]
+            self._dt = float(steady.mean())  # the mean interval: unbiased under jitter
             self.fs = 1.0 / self._dt
         # prepend the carried last sample so intervals span the block boundary
         if self._carry is not None:

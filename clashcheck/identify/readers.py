@@ -23,6 +23,7 @@ import itertools
 import math
 import os
 import re
+import struct
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
 
@@ -228,9 +229,11 @@ def _sniff_csv(path: str) -> tuple[list[str], str, int]:
         rows = max(len(lines) - 1, 0)
     try:
         float(names[0])
-        raise RecordingError(path, "row 1", "a header row with column names was expected, not numbers")
+        numeric = True
     except ValueError:
-        pass
+        numeric = False
+    if numeric:
+        raise RecordingError(path, "row 1", "a header row with column names was expected, not numbers")
     return names, delim, max(rows, 1)
 
 
@@ -294,7 +297,8 @@ def _open_csv(path: str, columns: Columns) -> Recording:
     def blocks(block_rows: int) -> Iterator[Block]:
         pd = _pandas()
         if pd is not None:
-            yield from _csv_blocks_pandas(pd, path, delim, used, ncols, block_rows, remap, columns)
+            yield from _csv_blocks_pandas(pd, path, delim, names, used, ncols, block_rows, remap,
+                                          columns)
         else:
             yield from _csv_blocks_numpy(path, delim, used, ncols, block_rows, remap, columns)
 
@@ -302,12 +306,16 @@ def _open_csv(path: str, columns: Columns) -> Recording:
                      thr is not None, bool(rpm), blocks)
 
 
-def _csv_blocks_pandas(pd, path, delim, used, ncols, block_rows, remap, columns) -> Iterator[Block]:
+def _csv_blocks_pandas(pd, path, delim, names, used, ncols, block_rows, remap,
+                       columns) -> Iterator[Block]:
     first = 0
     try:
+        # all columns are tokenised (no usecols), so a row with too many fields is
+        # caught; only the used ones must be numbers
         reader = pd.read_csv(
-            path, sep=delim, usecols=used, header=0, chunksize=block_rows, dtype=np.float64,
-            engine="c", skip_blank_lines=True, encoding="utf-8",
+            path, sep=delim, header=0, chunksize=block_rows,
+            dtype={names[c]: np.float64 for c in used}, engine="c", skip_blank_lines=True,
+            encoding="utf-8",
         )
         with reader:
             while True:
@@ -315,9 +323,13 @@ def _csv_blocks_pandas(pd, path, delim, used, ncols, block_rows, remap, columns)
                     chunk = next(reader)
                 except StopIteration:
                     break
+                except pd.errors.ParserError:
+                    raise
                 except ValueError as exc:  # a cell that is not a number
                     _raise_bad_cell(path, delim, used, first, block_rows, exc)
-                arr = chunk.to_numpy(dtype=np.float64, copy=False)
+                if chunk.shape[1] != ncols:
+                    raise RecordingError(path, f"row {first + 2}", "malformed rows (field count)")
+                arr = chunk.iloc[:, used].to_numpy(dtype=np.float64, copy=False)
                 yield _split(arr, first, *remap, columns)
                 first += arr.shape[0]
     except pd.errors.ParserError as exc:
@@ -372,9 +384,10 @@ def _csv_blocks_numpy(path, delim, used, ncols, block_rows, remap, columns) -> I
 
 
 def _loadtxt_block(path, lines, delim, used, ncols, first) -> np.ndarray:
-    try:
-        return np.loadtxt(lines, delimiter=delim, usecols=used, ndmin=2, dtype=np.float64,
-                          comments=None)
+    try:  # every column, so rows with too many fields fail here too
+        arr = np.loadtxt(lines, delimiter=delim, ndmin=2, dtype=np.float64, comments=None)
+        if arr.shape[1] == ncols:
+            return arr[:, used]
     except ValueError:
         pass
     # Slow path for a troubled block: blank cells become NaN (gaps), anything
@@ -427,6 +440,8 @@ def _open_wav(path: str, columns: Columns) -> Recording:
             rate, data = wavfile.read(path, mmap=True)
     except wavfile.WavFileWarning as exc:
         raise RecordingError(path, "header", f"damaged WAV file ({exc})") from None
+    except (struct.error, EOFError) as exc:
+        raise RecordingError(path, "header", f"truncated WAV file ({exc})") from None
     except ValueError as exc:
         msg = str(exc)
         if "mmap" in msg.lower() or "24" in msg:
