@@ -53,7 +53,7 @@ def test_small_jitter_is_resampled(tmp_path):
     assert f.jitter == pytest.approx(0.02 * np.sqrt(2 / 3), rel=0.1)
     assert any("resampled onto a uniform 1000.0 Hz grid" in w for w in f.warnings)
     y = np.concatenate([r.signals[:, 0] for r in runs])
-    grid = t[0] + np.arange(y.size) / 1000.0
+    grid = t[0] + np.arange(y.size) / f.sample_rate_hz
     # linear interpolation of a 37 Hz sine at 1 kHz: error below (πf/fs)²/2 ≈ 0.7 % (derived)
     assert np.max(np.abs(y - np.sin(2 * np.pi * f_sig * grid))) < 0.01
     assert abs(y.size - n) <= 2
