@@ -582,7 +582,12 @@ def sdof_fit(
 
     def resid(theta: np.ndarray) -> np.ndarray:
         phi = basis(theta)
-        c, *_ = np.linalg.lstsq(phi, y, rcond=None)
+        gram = phi.T @ phi
+        gram[np.diag_indices_from(gram)] *= 1.0 + 1e-10  # keeps near-equal columns solvable
+        try:
+            c = np.linalg.solve(gram, phi.T @ y)
+        except np.linalg.LinAlgError:
+            c, *_ = np.linalg.lstsq(phi, y, rcond=None)
         return phi @ c - y
 
     theta0 = np.r_[np.log(sig0), wd0]
