@@ -182,7 +182,7 @@ def half_power_points(
     """
     peak_hz, top = _peak(freq_hz, power, peak_index)
     target = level * top
-    ceiling = max(top, float(power[peak_index]))
+    ceiling = 1.1 * max(top, float(power[peak_index]))  # ripples on the top are no new peak
     n = len(power)
     i = peak_index
     while i > 0 and power[i] > target:
@@ -385,12 +385,31 @@ def corrected_half_power(
     HalfPower or None
         ``None`` when the measured spectrum has no half-power points.
     """
+    from scipy import ndimage
     from scipy.optimize import brentq
 
     raw = half_power_raw(freq_hz, power, peak_index)
     if raw is None:
         return None
+    # A broad peak spans many bins, each as noisy as a narrow peak's: smooth over
+    # about a tenth of the half-power width, and smooth the model the same way so
+    # the correction accounts for it.
     peak_hz, _top = _peak(freq_hz, power, peak_index)
+    df = freq_hz[1] - freq_hz[0]
+    size = int(2 * raw * peak_hz / df / 10) | 1
+    if size >= 3:
+        power = ndimage.uniform_filter1d(np.asarray(power, dtype=float), size, mode="nearest")
+        reach = max(size, int(0.5 * raw * peak_hz / df))  # the top of the smoothed peak
+        lo_s = max(0, peak_index - reach)
+        peak_index = lo_s + int(np.argmax(power[lo_s:peak_index + reach + 1]))
+        raw = half_power_raw(freq_hz, power, peak_index)
+        if raw is None:
+            return None
+        peak_hz, _top = _peak(freq_hz, power, peak_index)
+        base_model = model
+
+        def model(fn: float, zeta: float) -> np.ndarray:
+            return ndimage.uniform_filter1d(base_model(fn, zeta), size, mode="nearest")
     lo_i = max(0, int(np.searchsorted(freq_hz, peak_hz * 0.3)))
     hi_i = min(len(freq_hz), int(np.searchsorted(freq_hz, peak_hz * 1.8)) + 1)
     fgrid = freq_hz[lo_i:hi_i]
@@ -637,10 +656,20 @@ def refine_frequency(
     float
         Undamped natural frequency [Hz].
     """
+    from scipy import ndimage
     from scipy.optimize import minimize_scalar
 
     fn0 = peak_hz / math.sqrt(max(1 - 2 * zeta * zeta, 1e-6))
-    half = max(1.2 * zeta * fn0, 2.5 * (freq_hz[1] - freq_hz[0]))
+    df = freq_hz[1] - freq_hz[0]
+    size = int(2 * zeta * fn0 / df / 10) | 1  # as in corrected_half_power
+    if size >= 3:
+        power = ndimage.uniform_filter1d(np.asarray(power, dtype=float), size, mode="nearest")
+        base_model = model
+
+        def model(fn: float, z: float) -> np.ndarray:
+            return ndimage.uniform_filter1d(base_model(fn, z), size, mode="nearest")
+
+    half = max(1.5 * zeta * fn0, 2.5 * df)
     sel = np.flatnonzero((freq_hz >= peak_hz - half) & (freq_hz <= peak_hz + half))
     if sel.size < 6:
         return fn0

@@ -341,7 +341,8 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
             "range of throttle")
     freq = stream.freq_hz[state["band"]]
     per_bin = np.stack([bins.sums[k] / bins.counts[k] for k in populated])  # (bins, ch, f)
-    level = np.median(per_bin, axis=2, keepdims=True)
+    # one level per bin, common to the axes, so the axes keep their relative levels
+    level = np.median(per_bin.sum(axis=1, keepdims=True), axis=2, keepdims=True)
     level[level <= 0] = 1.0
     normed = per_bin / level
     stationary = np.median(normed, axis=0)  # (ch, f)
@@ -372,7 +373,7 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
             fn = hp.peak_hz
             if hp.damping is not None:
                 fn = refine_frequency(freq, spec, hp.peak_hz, hp.damping, model)
-            cands.append((ch, pk, hp, fn))
+            cands.append((ch, pk, hp, fn, float(spec[pk.index])))
     modes = _merge_axes(cands, axes, fs / nper, settings.max_modes)
     orders = _orders(order_list, order_samples, families, rotor_known, warnings)
     return ModesResult(
@@ -396,10 +397,14 @@ def _order_like(f0: float, values: np.ndarray, counts: np.ndarray, normed: np.nd
         if share > 0.5 and len(values) >= 1:
             common = int(np.bincount(k[on_line].astype(int)).argmax())
             return f"sits on order {common} of the rotor rate in {100 * share:.0f} % of the time"
-    # a mode is present in most bins; an order line at one frequency in few
+    # a mode stands out of its surroundings in most bins; an order line at one
+    # frequency does so in few
     i = int(np.argmin(np.abs(freq - f0)))
     lo, hi = max(0, i - 2), min(len(freq), i + 3)
-    present = normed[:, lo:hi].max(axis=1) > 2.0 * floor
+    wlo = int(np.searchsorted(freq, 0.75 * f0))
+    whi = max(int(np.searchsorted(freq, 1.25 * f0)), hi)
+    around = np.median(normed[:, wlo:whi], axis=1)
+    present = np.median(normed[:, lo:hi], axis=1) > 1.5 * around
     share = float(np.sum(counts[present]) / np.sum(counts))
     if share < 0.6:
         return f"shows in only {100 * share:.0f} % of the time"
@@ -422,9 +427,10 @@ def _merge_axes(cands, axes, resolution_hz: float, max_modes: int) -> tuple[Meas
     groups: list[list] = []
     for c in cands:
         f = c[3]
-        z = c[2].damping if c[2].damping is not None else 0.0
         for g in groups:
-            if abs(g[0][3] - f) <= max(0.015 * f, 2 * resolution_hz, z * f):
+            # within the stronger peak's half-power band two peaks cannot be told apart
+            z = g[0][2].damping if g[0][2].damping is not None else 0.0
+            if abs(g[0][3] - f) <= max(0.015 * f, 2 * resolution_hz, 2 * z * g[0][3]):
                 g.append(c)
                 break
         else:
@@ -432,11 +438,12 @@ def _merge_axes(cands, axes, resolution_hz: float, max_modes: int) -> tuple[Meas
     groups = groups[:max_modes]
     out = []
     for g in groups:
-        ch, pk, hp, fn = g[0]
+        g.sort(key=lambda c: -c[4])  # the axis where the peak stands highest
+        ch, pk, hp, fn, top = g[0]
         axes_seen = {c[0] for c in g}
         axis = axes[ch]
         if len(axes_seen) == len(axes) and len(axes) > 1 and all(
-                pk.snr_db - c[1].snr_db <= 3.0 for c in g):
+                top <= 2.0 * c[4] for c in g):  # every axis within 3 dB
             axis = "any"
         zeta = hp.damping
         conf = min(max((pk.snr_db - 4.0) / 20.0, 0.0), 1.0) * (0.7 if hp.bound_only else 1.0)
