@@ -48,6 +48,8 @@ __all__ = ["FlightSettings", "analyse_flight", "order_families", "MIN_SEGMENTS",
 MIN_SEGMENTS = 16
 #: Fewest populated rotor-rate bins for a clean separation of modes from orders.
 MIN_BINS = 5
+#: A peak's prominence must exceed this many standard errors of the median spectrum.
+SIGNIFICANCE = 5.0
 
 Progress = Callable[[int, int], None]
 
@@ -330,7 +332,11 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
             f"a resolution of {fs / nper:.3g} Hz with {MIN_SEGMENTS} half-overlapping averages "
             "(with rotor turning)")
     keys = sorted(bins.counts)
-    populated = [k for k in keys if bins.counts[k] >= 2] or keys
+    # bins with a handful of segments (passing through on a throttle change) are too
+    # noisy to vote in the median
+    typical = float(np.median([bins.counts[k] for k in keys]))
+    least = max(2.0, 0.25 * typical)
+    populated = [k for k in keys if bins.counts[k] >= least] or keys
     values = np.array([bins.values[k] / bins.counts[k] for k in populated])
     counts = np.array([bins.counts[k] for k in populated])
     unit = "Hz rotor rate" if rotor_known else "throttle"
@@ -346,7 +352,7 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
     level[level <= 0] = 1.0
     normed = per_bin / level
     stationary = np.median(normed, axis=0)  # (ch, f)
-    k_eff = max(1.0, 0.64 * total)
+    k_eff = max(1.0, 0.64 * float(np.sum(counts)))
     window = signal.get_window(WINDOW, nper)
     full_model = stationary_model(fs, window, stream.nfft)
     band_idx = np.flatnonzero(state["band"])
@@ -355,12 +361,19 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
         return full_model(fn, z)[band_idx]
 
     df = freq[1] - freq[0]
+    # relative standard error of the median spectrum: each bin's mean of n Welch
+    # periodograms varies by about 1/sqrt(n); the median of N such bins by
+    # 1.2533/sqrt(N) times that (asymptotic efficiency of the median; derived)
+    rel_err = 1.2533 * float(np.median(1.0 / np.sqrt(counts))) / math.sqrt(len(counts))
     cands = []
     for ch in range(nch):
         spec = stationary[ch]
         floor = noise_floor(freq, spec)
         for pk in find_modes_peaks(freq, spec, settings.snr_db, settings.prominence_db,
                                    4 * df, settings.max_modes * 2, floor):
+            rise = 1.0 - 10.0 ** (-pk.prominence_db / 10.0)  # (peak − base)/peak
+            if rise < SIGNIFICANCE * rel_err:
+                continue  # a ripple that the spread of the median spectrum can make
             reason = _order_like(pk.freq_hz, values, counts, normed[:, ch, :], freq, df,
                                  floor[pk.index], rotor_known)
             if reason:

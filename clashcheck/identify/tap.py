@@ -324,6 +324,12 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
     for (pk, hp), decay, f_fit in zip(found, decays, fit_freqs):
         zeta_hp = hp.damping
         decay = None if decay is None else float(decay)
+        ref = zeta_hp if zeta_hp is not None else hp.damping_high
+        if decay is not None and (decay > 3.0 * ref or decay < ref / 3.0) and (
+                zeta_hp is not None or decay > 3.0 * ref):
+            warnings.append(f"peak at {hp.peak_hz:.1f} Hz: the half-power width (ζ≈{ref:.4f}) "
+                            f"and the decay fit (ζ≈{decay:.4f}) disagree; not reported as a mode")
+            continue
         if decay is not None and (zeta_hp is not None or decay <= hp.damping_high * 1.5):
             # the joint time-domain fit accounts for neighbouring modes, which bias
             # the half-power reading when modes lie within a few bandwidths
