@@ -336,10 +336,13 @@ def write_flight_csv(
     throttle_column: str | None = "throttle",
     rpm_column: str | None = "rpm",
     time_column: str | None = "t",
+    signal_format: str = "%.4f",
 ) -> None:
     """Write streamed flight blocks as CSV with a header row.
 
-    Columns: time [s], one per axis, throttle (fraction), rotor rate [rpm].
+    Columns: time [s], one per axis, throttle (fraction), rotor rate [rpm];
+    ``None`` leaves a column out.  ``signal_format`` is the printf format of
+    the signal columns.
     """
     names: list[str] = []
     if time_column:
@@ -360,13 +363,13 @@ def write_flight_csv(
                     fmts.append("%.6f")
                 for k in range(len(axis_names)):
                     cols.append(blk["signals"][:, k])
-                    fmts.append("%.4f")
+                    fmts.append(signal_format)
                 if throttle_column:
                     cols.append(blk["throttle"])
-                    fmts.append("%.4f")
+                    fmts.append("%.3f")
                 if rpm_column:
                     cols.append(blk["rotor_hz"] * 60.0)
-                    fmts.append("%.1f")
+                    fmts.append("%.0f")
                 np.savetxt(fh, np.column_stack(cols), fmt=fmts, delimiter=",")
         os.replace(tmp, path)
     finally:
