@@ -83,6 +83,14 @@ def test_new_run_drops_the_unfinished_segment():
     assert sum(s.psd.shape[-1] for s in out) == 1
 
 
+@pytest.mark.parametrize("n", [4, 255, 256, 8000])
+def test_periodic_hann_is_scipys_welch_window(n):
+    from clashcheck.identify.spectra import hann_periodic
+
+    # scipy.signal.get_window("hann", n) is the DFT-even (periodic) Hann (reference library)
+    np.testing.assert_allclose(hann_periodic(n), signal.get_window("hann", n), atol=1e-15)
+
+
 def test_segment_length_for_resolution():
     assert segment_length(8000.0, 1.0) == 8000
     assert segment_length(1000.0, 3.0) == 334  # ceil(333.3) → 334, even (derived)

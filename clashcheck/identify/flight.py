@@ -40,7 +40,7 @@ from .damping import corrected_half_power, refine_frequency, stationary_model
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
 from .result import MeasuredMode, ModesResult, OrderStrength
-from .spectra import WINDOW, SegmentStream, segment_length
+from .spectra import SegmentStream, hann_periodic, segment_length
 
 __all__ = ["FlightSettings", "analyse_flight", "order_families", "MIN_SEGMENTS", "MIN_BINS"]
 
@@ -151,6 +151,25 @@ def order_families(blades: int | None, poles: int | None,
     return dict(sorted(out.items())), notes
 
 
+def _preload_scipy() -> None:
+    """Import the scipy parts needed at the end in a background thread.
+
+    Reading and the FFTs mostly run outside the GIL, so a long recording hides
+    most of scipy's import time; a short one just waits for it at the end.
+    """
+    import threading
+
+    def load() -> None:
+        try:
+            import scipy.ndimage  # noqa: F401
+            import scipy.optimize  # noqa: F401
+            import scipy.signal  # noqa: F401
+        except ImportError:  # reported where the modules are used
+            pass
+
+    threading.Thread(target=load, name="clashcheck-preload", daemon=True).start()
+
+
 class _Bins:
     """Per-bin sums of band-limited periodograms."""
 
@@ -162,15 +181,18 @@ class _Bins:
 
     def add(self, key_values: np.ndarray, psd: np.ndarray) -> None:
         keys = np.floor(np.log(key_values) / self.step).astype(int)
-        for k in np.unique(keys):
-            sel = keys == k
-            part = psd[:, :, sel].sum(axis=-1)
+        # segments come in time order and the rotor rate changes slowly: sum runs of
+        # equal keys as slices (views), not boolean copies
+        edges = np.r_[0, np.flatnonzero(np.diff(keys)) + 1, keys.size]
+        for a, b in zip(edges[:-1], edges[1:]):
+            k = int(keys[a])
+            part = psd[:, :, a:b].sum(axis=-1)
             if k in self.sums:
                 self.sums[k] += part
             else:
-                self.sums[k] = part.copy()
-            self.counts[k] = self.counts.get(k, 0) + int(sel.sum())
-            self.values[k] = self.values.get(k, 0.0) + float(key_values[sel].sum())
+                self.sums[k] = part
+            self.counts[k] = self.counts.get(k, 0) + int(b - a)
+            self.values[k] = self.values.get(k, 0.0) + float(key_values[a:b].sum())
 
 
 def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettings(),
@@ -197,8 +219,7 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
     RecordingError
         If the recording is too short or its sample rate too low.
     """
-    from scipy import signal
-
+    _preload_scipy()  # scipy loads in the background while the recording streams
     if not (recording.has_rotor or recording.has_throttle):
         raise InputError("--rpm-columns", "rotor-rate columns (--rpm-columns) or a throttle "
                          "column (--throttle-column)", None,
@@ -242,7 +263,9 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
                             f"resolution; analysed at {res:.3g} Hz")
         nper = segment_length(fs, res)
         stream = SegmentStream(fs, nper, nper // 2, nfft=2 * nper)
-        band = (stream.freq_hz >= settings.min_frequency_hz) & (stream.freq_hz <= fmax)
+        mask = (stream.freq_hz >= settings.min_frequency_hz) & (stream.freq_hz <= fmax)
+        idx = np.flatnonzero(mask)
+        band = slice(int(idx[0]), int(idx[-1]) + 1)  # a slice: band views, not copies
         state.update(fs=fs, fmax=fmax, stream=stream, band=band, nper=nper,
                      cum_df=stream.freq_hz[1])
 
@@ -311,7 +334,7 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
                 live = value > (1.0 if is_rotor else 0.02)
                 if not live.any():
                     continue
-                psd = segs.psd[:, :, live]
+                psd = segs.psd if live.all() else segs.psd[:, :, live]
                 bins.add(value[live], psd[:, state["band"], :])
                 if is_rotor:
                     measure_orders(psd, value[live], spread[live])
@@ -353,12 +376,12 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
     normed = per_bin / level
     stationary = np.median(normed, axis=0)  # (ch, f)
     k_eff = max(1.0, 0.64 * float(np.sum(counts)))
-    window = signal.get_window(WINDOW, nper)
+    window = hann_periodic(nper)
     full_model = stationary_model(fs, window, stream.nfft)
-    band_idx = np.flatnonzero(state["band"])
+    band_sl = state["band"]
 
     def model(fn: float, z: float) -> np.ndarray:
-        return full_model(fn, z)[band_idx]
+        return full_model(fn, z)[band_sl]
 
     df = freq[1] - freq[0]
     # relative standard error of the median spectrum: each bin's mean of n Welch

@@ -38,6 +38,7 @@ __all__ = [
     "open_recording",
     "RPM_UNITS",
     "BLOCK_ROWS",
+    "PREFETCH",
 ]
 
 #: Rows per block handed to the analysis (about 6 MB of float64 for 3 axes).
@@ -129,13 +130,19 @@ class Recording:
     has_rotor: bool
     _blocks: Callable[[int], Iterator[Block]] = field(repr=False, default=None)  # type: ignore[assignment]
 
-    def blocks(self, block_rows: int = BLOCK_ROWS) -> Iterator[Block]:
-        """Stream the recording in blocks of at most ``block_rows`` rows."""
+    def blocks(self, block_rows: int = BLOCK_ROWS, prefetch: bool = True) -> Iterator[Block]:
+        """Stream the recording in blocks of at most ``block_rows`` rows.
+
+        With ``prefetch`` (CSV only) a background thread parses the next blocks
+        while the caller works on this one; at most :data:`PREFETCH` blocks wait.
+        """
+        if prefetch and self.format == "csv":
+            return _prefetched(self._blocks(block_rows))
         return self._blocks(block_rows)
 
     def read_all(self) -> Block:
         """Read the whole recording into one block (for short recordings)."""
-        parts = list(self.blocks())
+        parts = list(self.blocks(prefetch=False))
         if not parts:
             raise RecordingError(self.path, "", "the file holds no data rows")
 
@@ -145,6 +152,57 @@ class Recording:
 
         return Block(0, cat("time_s"), np.concatenate([p.signals for p in parts]),
                      cat("throttle"), cat("rotor_hz"))
+
+
+#: Blocks parsed ahead by the background reader.
+PREFETCH = 2
+
+
+def _prefetched(gen: Iterator[Block]) -> Iterator[Block]:
+    """Run a block generator in a thread; hand its blocks (or its error) over a queue.
+
+    The CSV parser and numpy's FFT both spend most of their time outside the
+    GIL, so on two cores parsing and analysis overlap.  The queue is bounded,
+    so memory stays at a few blocks whatever the file's length.
+    """
+    import queue
+    import threading
+
+    q: queue.Queue = queue.Queue(maxsize=PREFETCH)
+    stop = threading.Event()
+    done = object()
+
+    def put(item) -> bool:
+        while not stop.is_set():
+            try:
+                q.put(item, timeout=0.1)
+                return True
+            except queue.Full:
+                continue
+        return False
+
+    def run() -> None:
+        try:
+            for blk in gen:
+                if not put(blk):
+                    return
+        except BaseException as exc:  # handed to the consumer, raised there
+            put(exc)
+            return
+        put(done)
+
+    thread = threading.Thread(target=run, name="clashcheck-reader", daemon=True)
+    thread.start()
+    try:
+        while True:
+            item = q.get()
+            if item is done:
+                return
+            if isinstance(item, BaseException):
+                raise item
+            yield item
+    finally:
+        stop.set()
 
 
 def open_recording(path: str | os.PathLike[str], columns: Columns) -> Recording:

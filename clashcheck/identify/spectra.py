@@ -3,10 +3,11 @@
 :func:`welch_psd` wraps :func:`scipy.signal.welch` with the settings used
 everywhere here (density scaling, Hann window, constant detrend, mean
 average).  :class:`SegmentStream` computes the same segments from a recording
-that arrives in blocks: each block goes through :func:`scipy.signal.spectrogram`
-(which returns Welch's per-segment periodograms) with the overlap carried across
-block boundaries, so the mean over the streamed segments equals a one-shot
-:func:`scipy.signal.welch` of the whole run.  :class:`WelchAverage` keeps that
+that arrives in blocks, with the overlap carried across block boundaries, so
+the mean over the streamed segments equals a one-shot :func:`scipy.signal.welch`
+of the whole run.  It does Welch's arithmetic (constant detrend, periodic Hann
+window, density scaling) on numpy's FFT, so a long recording streams while
+scipy is still loading.  :class:`WelchAverage` keeps that
 mean.
 """
 
@@ -24,6 +25,7 @@ __all__ = [
     "Segments",
     "WelchAverage",
     "WINDOW",
+    "hann_periodic",
 ]
 
 #: Spectral window used by every spectrum here.
@@ -75,6 +77,21 @@ def welch_psd(
         noverlap=noverlap, nfft=nfft, detrend="constant", scaling="density", axis=axis,
         average="mean",
     )
+
+
+def hann_periodic(n: int) -> np.ndarray:
+    """The periodic Hann window of length ``n``, 0.5 − 0.5·cos(2πk/n).
+
+    The same as ``scipy.signal.get_window("hann", n)`` (the DFT-even form used
+    by :func:`scipy.signal.welch`), written out so that streaming spectra need
+    no scipy import.
+
+    Examples
+    --------
+    >>> hann_periodic(4).tolist()
+    [0.0, 0.5, 1.0, 0.5]
+    """
+    return 0.5 - 0.5 * np.cos(2.0 * np.pi * np.arange(n) / n)
 
 
 def segment_length(sample_rate_hz: float, resolution_hz: float) -> int:
@@ -136,6 +153,8 @@ class SegmentStream:
         self.nfft = self.nperseg if nfft is None else int(nfft)
         self.hop = self.nperseg - self.noverlap
         self.freq_hz = np.fft.rfftfreq(self.nfft, 1.0 / self.fs)
+        self._window = hann_periodic(self.nperseg)
+        self._scale = 1.0 / (self.fs * float(np.sum(self._window**2)))
         self._run: int | None = None
         self._buf: np.ndarray | None = None
         self._aux: np.ndarray | None = None
@@ -153,8 +172,6 @@ class SegmentStream:
             Auxiliary series per row, shape (rows, series), averaged per segment
             (e.g. rotor rate [Hz]).
         """
-        from scipy import signal
-
         x = np.asarray(x, dtype=np.float64)
         if aux is None:
             aux = np.zeros((x.shape[0], 0))
@@ -169,22 +186,35 @@ class SegmentStream:
         if n < self.nperseg:
             return
         nseg = (n - self.noverlap) // self.hop
-        used = self.noverlap + nseg * self.hop
-        _f, _t, sxx = signal.spectrogram(
-            self._buf[:used].T, fs=self.fs, window=WINDOW, nperseg=self.nperseg,
-            noverlap=self.noverlap, nfft=self.nfft, detrend="constant", scaling="density",
-            mode="psd", axis=-1,
-        )
         starts = np.arange(nseg) * self.hop
-        if self._aux.shape[1]:
-            c = np.vstack([np.zeros((1, self._aux.shape[1])), np.cumsum(self._aux, axis=0)])
-            aux_mean = ((c[starts + self.nperseg] - c[starts]) / self.nperseg).T
-        else:
-            aux_mean = np.zeros((0, nseg))
+        yield Segments(self._periodograms(self._buf, nseg), self._aux_means(starts), run)
         keep = nseg * self.hop
         self._buf = self._buf[keep:].copy()
         self._aux = self._aux[keep:].copy()
-        yield Segments(sxx, aux_mean, run)
+
+    def _periodograms(self, buf: np.ndarray, nseg: int) -> np.ndarray:
+        """Welch's modified periodograms of ``nseg`` segments, (channels, freqs, segments).
+
+        The same arithmetic as :func:`scipy.signal.spectrogram` (constant detrend,
+        density scaling, one-sided doubling) on numpy's FFT, so streaming needs no
+        scipy import; the tests hold it against :func:`scipy.signal.welch`.
+        """
+        out = np.empty((buf.shape[1], self.freq_hz.size, nseg))
+        for ch in range(buf.shape[1]):
+            frames = np.lib.stride_tricks.sliding_window_view(buf[:, ch], self.nperseg)
+            frames = frames[:: self.hop][:nseg]
+            seg = frames - frames.mean(axis=1, keepdims=True)
+            spec = np.fft.rfft(seg * self._window, n=self.nfft, axis=1)
+            out[ch] = (spec.real**2 + spec.imag**2).T
+        out *= self._scale
+        out[:, 1:-1 if self.nfft % 2 == 0 else None, :] *= 2.0
+        return out
+
+    def _aux_means(self, starts: np.ndarray) -> np.ndarray:
+        if not self._aux.shape[1]:
+            return np.zeros((0, starts.size))
+        c = np.vstack([np.zeros((1, self._aux.shape[1])), np.cumsum(self._aux, axis=0)])
+        return ((c[starts + self.nperseg] - c[starts]) / self.nperseg).T
 
 
 class WelchAverage:
