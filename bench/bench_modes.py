@@ -123,6 +123,13 @@ def main() -> int:
     print(f"  clashcheck modes (end to end)             {t_modes:6.2f} s   {ratio:.2f}× baseline "
           f"(target ≤ 2×: {'met' if ratio <= 2 else 'NOT met'})")
 
+    # where the time goes: what a process pays before it reads a byte
+    t_imports = wall([sys.executable, "-c", "import click, numpy, pandas, scipy.signal, scipy.ndimage, "
+                      "scipy.optimize"], args.runs)
+    t_scipy = wall([sys.executable, "-c", "import scipy.signal, scipy.ndimage, scipy.optimize"], args.runs)
+    print(f"  imports alone (click, numpy, pandas, scipy) {t_imports:6.2f} s   {t_imports / t_read:.2f}× baseline")
+    print(f"  scipy.signal/ndimage/optimize import alone  {t_scipy:6.2f} s   {t_scipy / t_read:.2f}× baseline")
+
     rss_read = peak_rss_mb(read_csv_cmd(ten))
     rss10 = peak_rss_mb(modes_cmd(ten))
     rss20 = peak_rss_mb(modes_cmd(twenty))

@@ -41,8 +41,8 @@ __all__ = [
     "PREFETCH",
 ]
 
-#: Rows per block handed to the analysis (about 6 MB of float64 for 3 axes).
-BLOCK_ROWS = 1 << 18
+#: Rows per block handed to the analysis (about 3 MB of float64 for 3 axes).
+BLOCK_ROWS = 1 << 17
 
 #: Units accepted for rotor-rate columns.
 RPM_UNITS = ("rpm", "Hz", "erpm")
