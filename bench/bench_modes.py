@@ -10,6 +10,10 @@ Targets, as ratios against baselines measured in the same run:
   10 % of the 10-minute one (the analysis streams in blocks).
 - **Wiring.** `clashcheck check` does not import scipy (or pandas); `modes` may.
 
+The run also prints what the imports alone cost (click, numpy, pandas, scipy),
+as a ratio to the same baseline: scipy.signal's import is about one baseline by
+itself on the target machine, so the speed target leaves little for the work.
+
 Run from the repository root with the project installed:
 
     python bench/bench_modes.py [--runs 3] [--keep]
@@ -149,7 +153,8 @@ def main() -> int:
     print("imports:")
     print(f"  clashcheck check: scipy {'yes' if check_scipy else 'no'}, pandas {'yes' if check_pandas else 'no'}"
           f"   (target: neither: {'met' if not (check_scipy or check_pandas) else 'NOT met'})")
-    print(f"  clashcheck modes: scipy {'yes' if modes_scipy else 'no'}, pandas {'yes' if modes_pandas else 'no'}")
+    print(f"  clashcheck modes (tap WAV): scipy {'yes' if modes_scipy else 'no'}, "
+          f"pandas {'yes' if modes_pandas else 'no'}")
     if not args.keep:
         for p in (ten, twenty):
             os.unlink(p)
