@@ -36,7 +36,7 @@ import numpy as np
 from ..errors import InputError
 from ..modes import MODE_AXES
 from .checks import USABLE_BAND, Conditioner, require_duration, require_sample_rate
-from .damping import corrected_half_power, refine_frequency, stationary_model
+from .damping import corrected_half_power, half_power_raw, refine_frequency, stationary_model
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
 from .result import MeasuredMode, ModesResult, OrderStrength
@@ -403,14 +403,23 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
                 warnings.append(f"peak at {pk.freq_hz:.1f} Hz on {axes[ch]} {reason}; "
                                 "treated as an order line, not a mode")
                 continue
-            hp = corrected_half_power(freq, spec, pk.index, model, rel_error=1 / math.sqrt(k_eff))
-            if hp is None:
+            raw = half_power_raw(freq, spec, pk.index)
+            if raw is None:
                 continue
-            fn = hp.peak_hz
-            if hp.damping is not None:
-                fn = refine_frequency(freq, spec, hp.peak_hz, hp.damping, model)
-            cands.append((ch, pk, hp, fn, float(spec[pk.index])))
-    modes = _merge_axes(cands, axes, fs / nper, settings.max_modes)
+            cands.append((ch, pk, raw, float(spec[pk.index])))
+
+    def corrected(ch: int, pk) -> tuple | None:
+        """Window-corrected damping and refined frequency, on one axis's spectrum."""
+        spec = stationary[ch]
+        hp = corrected_half_power(freq, spec, pk.index, model, rel_error=1 / math.sqrt(k_eff))
+        if hp is None:
+            return None
+        fn = hp.peak_hz
+        if hp.damping is not None:
+            fn = refine_frequency(freq, spec, hp.peak_hz, hp.damping, model)
+        return hp, fn
+
+    modes = _merge_axes(cands, axes, fs / nper, settings.max_modes, corrected)
     orders = _orders(order_list, order_samples, families, rotor_known, warnings)
     return ModesResult(
         recording=os.path.basename(recording.path), kind="flight",
@@ -457,29 +466,42 @@ def _order_like(f0: float, values: np.ndarray, counts: np.ndarray, normed: np.nd
     return ""
 
 
-def _merge_axes(cands, axes, resolution_hz: float, max_modes: int) -> tuple[MeasuredMode, ...]:
-    """One mode per frequency: the axis where it stands highest; 'any' if level on all."""
+def _merge_axes(cands, axes, resolution_hz: float, max_modes: int,
+                corrected) -> tuple[MeasuredMode, ...]:
+    """One mode per frequency: the axis where it stands highest; 'any' if level on all.
+
+    Peaks are grouped across axes first (by their raw half-power width), so the
+    window-corrected estimate runs once per mode, on the axis with the highest peak.
+    """
     cands = sorted(cands, key=lambda c: -c[1].snr_db)
     groups: list[list] = []
     for c in cands:
-        f = c[3]
+        f = c[1].freq_hz
         for g in groups:
             # within the stronger peak's half-power band two peaks cannot be told apart
-            z = g[0][2].damping if g[0][2].damping is not None else 0.0
-            if abs(g[0][3] - f) <= max(0.015 * f, 2 * resolution_hz, 2 * z * g[0][3]):
+            f0, z = g[0][1].freq_hz, g[0][2]
+            if abs(f0 - f) <= max(0.015 * f, 2 * resolution_hz, 2 * z * f0):
                 g.append(c)
                 break
         else:
             groups.append([c])
-    groups = groups[:max_modes]
     out = []
     for g in groups:
-        g.sort(key=lambda c: -c[4])  # the axis where the peak stands highest
-        ch, pk, hp, fn, top = g[0]
-        axes_seen = {c[0] for c in g}
-        axis = axes[ch]
-        if len(axes_seen) == len(axes) and len(axes) > 1 and all(
-                top <= 2.0 * c[4] for c in g):  # every axis within 3 dB
+        if len(out) >= max_modes:
+            break
+        # estimate on the axis where the peak stands clearest of its floor ...
+        for ch, pk, _raw, _top in sorted(g, key=lambda c: -c[1].snr_db):
+            got = corrected(ch, pk)
+            if got is not None:
+                break
+        else:
+            continue
+        hp, fn = got
+        # ... and name the axis where it is strongest ('any' when all are within 3 dB)
+        best = max(g, key=lambda c: c[3])
+        axis = axes[best[0]]
+        if len({c[0] for c in g}) == len(axes) and len(axes) > 1 and all(
+                best[3] <= 2.0 * c[3] for c in g):
             axis = "any"
         zeta = hp.damping
         conf = min(max((pk.snr_db - 4.0) / 20.0, 0.0), 1.0) * (0.7 if hp.bound_only else 1.0)

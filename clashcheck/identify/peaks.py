@@ -59,7 +59,7 @@ def noise_floor(freq_hz: np.ndarray, power: np.ndarray) -> np.ndarray:
     lo, hi = f[0], f[-1]
     if lo <= 0 or hi <= lo:
         return np.full_like(power, float(np.median(power)))
-    npts = int(min(4000, max(64, 8 * len(f))))
+    npts = int(min(1000, max(64, 8 * len(f))))
     lg = np.linspace(math.log(lo), math.log(hi), npts)
     vals = np.interp(lg, np.log(f), logp)
     step = lg[1] - lg[0]
