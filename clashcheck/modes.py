@@ -169,8 +169,17 @@ class MarginPolicy:
             )
 
     def damping_of(self, mode: Mode) -> tuple[float, bool]:
-        """The damping ratio used for ``mode`` and whether it was assumed."""
+        """The damping ratio used for ``mode`` and whether it was assumed.
+
+        A mode without a damping figure takes the default; when a measurement
+        gave only an upper bound (``details["damping_high"]``, e.g. a peak
+        narrower than the resolution), the smaller of the two is used, since
+        less damping asks for more margin.
+        """
         if mode.damping is None:
+            bound = mode.details.get("damping_high")
+            if isinstance(bound, float) and bound < self.default_damping:
+                return bound, True
             return self.default_damping, True
         return mode.damping, False
 

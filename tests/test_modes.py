@@ -228,3 +228,16 @@ def test_mode_refusals(kwargs, suffix):
     with pytest.raises(InputError) as info:
         Mode("m", **kwargs)
     assert info.value.field == f"mode 'm'.{suffix}"
+
+
+def test_upper_bound_damping_is_used_when_below_the_default():
+    # derived: ζ ≤ bound means AF ≥ 1/(2·bound); using the smaller of the
+    # default and the bound can only raise the required margin.
+    from clashcheck.modes import MarginPolicy, Mode
+
+    policy = MarginPolicy("damping", None, 0.03)
+    bounded = Mode("narrow", 200.0, None, details={"damping_high": 0.008})
+    loose = Mode("loose", 200.0, None, details={"damping_high": 0.09})
+    assert policy.damping_of(bounded) == (0.008, True)
+    assert policy.damping_of(loose) == (0.03, True)
+    assert policy.required_margin(bounded) >= policy.required_margin(Mode("plain", 200.0))
