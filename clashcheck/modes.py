@@ -112,22 +112,29 @@ def amplification_factor(damping: float) -> float:
     return 1.0 / (2.0 * damping)
 
 
-def api_margin_below(af: float) -> float:
+def api_margin_below(af):
     """Required separation margin for a mode below the operating range.
 
-    SM = 0 when AF < 2.5, else min(16 %, 17 %·(1 − 1/(AF − 1.5))), as a fraction.
+    SM = 0 when AF < 2.5, else min(16 %, 17 %·(1 − 1/(AF − 1.5))), as a
+    fraction.  Takes a float or an array.
 
     Examples
     --------
     >>> round(api_margin_below(5.0), 6)
     0.121429
     """
-    if af < 2.5:
-        return 0.0
-    return min(0.16, 0.17 * (1.0 - 1.0 / (af - 1.5)))
+    return _api_curve(af, 0.0, 0.16)
 
 
-def api_margin_above(af: float) -> float:
+def _api_curve(af, offset: float, cap: float):
+    x = np.asarray(af, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        curve = np.minimum(cap, offset + 0.17 * (1.0 - 1.0 / (x - 1.5)))
+    out = np.where(x < 2.5, 0.0, curve)
+    return float(out) if out.ndim == 0 else out
+
+
+def api_margin_above(af):
     """Required separation margin for a mode above the operating range.
 
     SM = 0 when AF < 2.5, else min(26 %, 10 % + 17 %·(1 − 1/(AF − 1.5))).
@@ -137,9 +144,7 @@ def api_margin_above(af: float) -> float:
     >>> round(api_margin_above(5.0), 6)
     0.221429
     """
-    if af < 2.5:
-        return 0.0
-    return min(0.26, 0.10 + 0.17 * (1.0 - 1.0 / (af - 1.5)))
+    return _api_curve(af, 0.10, 0.26)
 
 
 @dataclass(frozen=True)
@@ -185,13 +190,19 @@ class MarginPolicy:
 
     def required_margin(self, mode: Mode) -> float:
         """Required relative margin for ``mode``, as a fraction."""
-        zeta, _assumed = self.damping_of(mode)
+        return float(self.margin_for_damping(self.damping_of(mode)[0]))
+
+    def margin_for_damping(self, damping):
+        """Required margin [fraction] for damping ratio(s) ``damping`` (float or array)."""
+        z = np.asarray(damping, dtype=float)
         if self.name == "fixed":
             assert self.fixed_margin is not None
-            return self.fixed_margin
-        if self.name == "half-power":
-            return zeta
-        return api_margin_below(amplification_factor(zeta))
+            out = np.full_like(z, self.fixed_margin)
+        elif self.name == "half-power":
+            out = z.copy()
+        else:
+            out = np.asarray(api_margin_below(1.0 / (2.0 * z)))
+        return float(out) if out.ndim == 0 else out
 
 
 def magnification(r: np.ndarray | float, damping: float) -> np.ndarray | float:

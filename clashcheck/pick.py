@@ -533,18 +533,6 @@ class _Axes:
         self.order_weights = np.array([[o.weight for o in r] for r in rows])
 
 
-def _required_margin(policy, zeta: np.ndarray) -> np.ndarray:
-    """Vectorised :meth:`MarginPolicy.required_margin` for damping ratios ``zeta``."""
-    if policy.name == "fixed":
-        return np.full_like(zeta, policy.fixed_margin)
-    if policy.name == "half-power":
-        return zeta.copy()
-    af = 1.0 / (2.0 * zeta)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        curve = np.minimum(0.16, 0.17 * (1.0 - 1.0 / (af - 1.5)))
-    return np.where(af < 2.5, 0.0, curve)
-
-
 def _peak_magnification(x_lo, x_hi, f_lo, f_hi, zeta):
     """Largest M(f/f_m) for f in [x_lo, x_hi] and f_m in [f_lo, f_hi].
 
@@ -662,7 +650,7 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         f_lo = f_lo0[None, :] * rat
         f_hi = f_hi0[None, :] * rat
         zeta = np.where(zeta_known[None, :], zeta0[None, :] * rat, zeta0[None, :])
-        sm = _required_margin(policy, zeta)
+        sm = policy.margin_for_damping(zeta)
         band_f_lo = f_lo * (1.0 - sm)
         band_f_hi = f_hi * (1.0 + sm)
         order = ax.order_numbers[ax.combo[sl]]          # (c, K)
