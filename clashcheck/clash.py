@@ -137,6 +137,8 @@ class DangerRange:
     pack_states: tuple[str, ...]
     #: Whether any of the windows is aliased.
     aliased: bool
+    #: Whether every one of the windows is aliased.
+    all_aliased: bool
     #: Whether any of the windows touches its operating band.
     touches_operating_band: bool
 
@@ -432,6 +434,7 @@ def _range_of(mode: str, group: Sequence[Window]) -> DangerRange:
         orders=tuple(labels),
         pack_states=states,
         aliased=any(w.aliased for w in group),
+        all_aliased=all(w.aliased for w in group),
         touches_operating_band=any(w.touches_operating_band for w in group),
     )
 

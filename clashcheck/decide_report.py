@@ -426,36 +426,32 @@ def render_check_report(build, result, suggestions, image_ref: str | None) -> st
     """One Markdown report: summary, assumptions, the check, the diagram, suggestions, safety.
 
     The check's own Markdown (:func:`clashcheck.report.render_markdown`) is
-    kept whole; the summary, assumptions, diagram and suggestions are added
-    around it, before its safety section.
+    kept whole; the summary, assumptions, diagram and suggestions go in as
+    its extra sections, before the safety section.
     """
     from tabulate import tabulate
 
-    base = render_markdown(result)
-    marker = "\n## Safety\n"
-    head, sep, tail = base.partition(marker)
-    extra = ["", "## Build summary", "", tabulate(build_summary_rows(build), headers=["part", "as checked"],
-                                                   tablefmt="github"), "", "## Assumptions", ""]
-    extra += [f"- {line}" for line in _assumption_lines(build, result)]
+    summary = tabulate(build_summary_rows(build), headers=["part", "as checked"], tablefmt="github")
+    sections = [
+        "## Build summary\n\n" + summary,
+        "## Assumptions\n\n" + "\n".join(f"- {line}" for line in _assumption_lines(build, result)),
+    ]
     if image_ref is not None:
-        extra += ["", "## Diagram", "", f"![Campbell diagram of {result.name}]({image_ref})", "",
-                  "Excitation frequency against throttle: each order is a band from the full to the empty pack, "
-                  "dashed lines are aliased orders as the sensor sees them, grey lines are the frame modes with "
-                  "their required-margin bands, thick orange segments are the danger ranges (solid where they "
-                  "touch the operating band), dots are crossings, dotted verticals the hover points."]
-    extra += ["", "## Suggestions", ""]
+        sections.append(
+            f"## Diagram\n\n![Campbell diagram of {result.name}]({image_ref})\n\n"
+            "Excitation frequency against throttle: each order is a band from the full to the empty pack, "
+            "dashed lines are aliased orders as the sensor sees them, grey lines are the frame modes with "
+            "their required-margin bands, thick orange segments are the danger ranges (solid where they "
+            "touch the operating band), dots are crossings, dotted verticals the hover points."
+        )
     if suggestions:
-        extra += [f"- {s.text}" for s in suggestions]
+        lines = [f"- {s.text}" for s in suggestions]
     elif result.verdict == "clash":
-        extra.append("- No single computed change clears the clashes found; see `clashcheck pick`.")
+        lines = ["- No single computed change clears the clashes found; see `clashcheck pick`."]
     else:
-        extra.append(f"- None needed: the verdict is {result.verdict}.")
-    body = head.rstrip("\n") + "\n" + "\n".join(extra) + "\n"
-    if sep:
-        return body + marker + tail
-    from .report import CAUTIONS as cautions
-
-    return body + "\n## Safety\n\n" + "\n".join(f"- {c}" for c in cautions) + "\n"
+        lines = [f"- None needed: the verdict is {result.verdict}."]
+    sections.append("## Suggestions\n\n" + "\n".join(lines))
+    return render_markdown(result, sections)
 
 
 def report_with_diagram(build, result, fmt: str, plot_path, report_path=None, *, inputs=()) -> str:

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -193,7 +194,7 @@ class Drive:
         """The drive model of a :class:`~clashcheck.build.Build`."""
         return build.drive()
 
-    @property
+    @cached_property
     def parameters(self) -> DriveParameters:
         """The plain numbers of the steady-state equation."""
         return DriveParameters(

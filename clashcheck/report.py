@@ -256,7 +256,7 @@ def _range_rows(result: ClashResult) -> tuple[list[list[str]], int]:
     hidden = 0
     for mr in result.modes:
         for r in mr.danger_ranges:
-            if not r.touches_operating_band and all(o.endswith("(aliased)") for o in r.orders):
+            if not r.touches_operating_band and r.all_aliased:
                 hidden += 1
                 continue
             rows.append([
@@ -307,8 +307,12 @@ def render_table(result: ClashResult) -> str:
     return "\n".join(parts) + "\n"
 
 
-def render_markdown(result: ClashResult) -> str:
-    """Markdown report for pasting into a build log."""
+def render_markdown(result: ClashResult, extra_sections: Iterable[str] = ()) -> str:
+    """Markdown report for pasting into a build log.
+
+    ``extra_sections`` (Markdown text, each starting with its ``##`` heading)
+    are placed after the danger ranges and before the safety section.
+    """
     from tabulate import tabulate
 
     parts = [f"# Clash check: {result.name}", "", f"**{_verdict_line(result)}**", "", "## Build and assumptions", ""]
@@ -324,6 +328,8 @@ def render_markdown(result: ClashResult) -> str:
         parts.append("None between idle and max throttle.")
     if hidden:
         parts += ["", _hidden_line(hidden)]
+    for section in extra_sections:
+        parts += ["", section.strip("\n")]
     parts += ["", "## Safety", ""] + [f"- {c}" for c in CAUTIONS]
     return "\n".join(parts) + "\n"
 
