@@ -82,7 +82,6 @@ use it.  The material catalog is read through :mod:`clashcheck.catalog`.
 
 from __future__ import annotations
 
-import difflib
 import math
 from dataclasses import dataclass, field
 from functools import cache
@@ -91,6 +90,7 @@ from typing import Any
 import numpy as np
 
 from . import units
+from ._fields import check_keys
 from .errors import MISSING, InputError
 from .modes import Mode
 
@@ -1034,11 +1034,7 @@ def parse_arm_table(
     """
     if not isinstance(table, dict):
         raise InputError(field, "a table of arm dimensions", table)
-    for key in table:
-        if key not in ARM_KEYS:
-            close = difflib.get_close_matches(str(key), ARM_KEYS, n=1)
-            hint = f"did you mean {close[0]!r}?" if close else "known: " + ", ".join(ARM_KEYS)
-            raise InputError(f"{field}.{key}", "a known arm key", key, hint)
+    check_keys(table, ARM_KEYS, field)
 
     def get(key: str, unit: str, example: str) -> float | None:
         return units.parse_optional(table.get(key), unit, f"{field}.{key}", example=example)

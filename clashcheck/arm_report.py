@@ -11,16 +11,10 @@ from __future__ import annotations
 from typing import Any
 
 from .arm import ArmEstimate, ArmGeometry, Material
+from .report import CAUTIONS
 
 __all__ = ["CAUTIONS", "arm_table", "arm_json"]
 
-#: Lines that close every arm report.
-CAUTIONS = (
-    "Tap tests to check these figures are done with the propellers removed.",
-    "Lithium packs are charged and stored under supervision.",
-    "These are design estimates: they do not replace inspection, test flights in a safe area, "
-    "or the aviation rules and licensed practice that apply locally.",
-)
 
 
 def _mm(value_m: float | None) -> str:

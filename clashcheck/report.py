@@ -11,9 +11,10 @@ import json
 import math
 import os
 import tempfile
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
+from contextlib import contextmanager
 from pathlib import Path
-from typing import Any
+from typing import Any, BinaryIO
 
 from .clash import ClashResult, ModeResult
 from .errors import OutputError
@@ -27,6 +28,7 @@ __all__ = [
     "render_markdown",
     "render",
     "write_output",
+    "atomic_file",
     "check_target",
     "pct",
     "dump_json",
@@ -35,7 +37,7 @@ __all__ = [
 
 #: Safety lines printed with results that may lead to hardware work.
 CAUTIONS = (
-    "Bench and tap tests: propellers off, or a guarded test rig.",
+    "Bench and tap tests are done with the propellers removed, or in a test rig behind guards.",
     "Lithium packs: charge and store under supervision.",
     "Design advice only: it does not replace inspection, test flights in a safe area, "
     "or the aviation rules and licensed practice that apply locally.",
@@ -370,11 +372,13 @@ def check_target(path: str | Path, inputs: Iterable[str | Path] = ()) -> Path:
     return folder
 
 
-def write_output(path: str | Path, text: str | bytes, inputs: Iterable[str | Path] = ()) -> None:
-    """Write ``text`` to ``path`` atomically, never over one of ``inputs``.
+@contextmanager
+def atomic_file(path: str | Path, inputs: Iterable[str | Path] = ()) -> Iterator[BinaryIO]:
+    """Open ``path`` for writing so that it appears whole or not at all.
 
-    The text goes to a temporary file in the same folder, which then replaces
-    the target in one step, so a reader never sees a half-written file.
+    The data goes to a temporary file in the same folder, which replaces the
+    target in one step when the block ends without an error (and is removed
+    otherwise).  The target may not be one of ``inputs``.
 
     Raises
     ------
@@ -383,24 +387,34 @@ def write_output(path: str | Path, text: str | bytes, inputs: Iterable[str | Pat
     """
     target = Path(path)
     folder = check_target(target, inputs)
-    data = text.encode("utf-8") if isinstance(text, str) else text
     try:
         fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{target.name}.", suffix=".tmp")
     except OSError as exc:
         raise OutputError(str(path), f"cannot write here ({exc.strerror})") from None
     try:
         with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
+            yield fh
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(tmp, 0o666 & ~umask)
         os.replace(tmp, target)
     except OSError as exc:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
         raise OutputError(str(path), f"cannot write ({exc.strerror})") from None
+    finally:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+
+
+def write_output(path: str | Path, text: str | bytes, inputs: Iterable[str | Path] = ()) -> None:
+    """Write ``text`` to ``path`` atomically, never over one of ``inputs``.
+
+    Raises
+    ------
+    OutputError
+        When the path is an input, a folder, or cannot be written.
+    """
+    with atomic_file(path, inputs) as fh:
+        fh.write(text.encode("utf-8") if isinstance(text, str) else text)
 
 
 _CATALOG_COLUMNS = {

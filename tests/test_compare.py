@@ -290,7 +290,7 @@ def test_cli_compare_exit_codes_and_json(tmp_path):
     assert runner.invoke(main, ["compare", b, a]).exit_code == 1
     assert runner.invoke(main, ["compare", b, a, "--fail-on", "never"]).exit_code == 0
     md = runner.invoke(main, ["compare", a, b, "--format", "markdown"])
-    assert md.exit_code == 0 and "## Changes" in md.stdout and "propellers off" in md.stdout
+    assert md.exit_code == 0 and "## Changes" in md.stdout and "propellers removed" in md.stdout
 
 
 def test_cli_compare_bad_output(tmp_path):

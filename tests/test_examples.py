@@ -205,7 +205,7 @@ def test_examples_run_in_every_format(runner, path):
     for fmt in ("table", "markdown", "json"):
         result = runner.invoke(main, ["check", str(path), "--format", fmt])
         assert result.exit_code in (0, 1), result.output
-        assert "propellers off" in result.stdout.lower() or "props off" in result.stdout.lower()
+        assert "propellers removed" in result.stdout.lower() or "props off" in result.stdout.lower()
 
 
 def test_examples_cover_clash_and_clear(runner):

@@ -193,7 +193,7 @@ def test_check_markdown_report_with_diagram(tmp_path):
     assert res.exit_code == 1, res.output          # the example clashes
     text = report.read_text(encoding="utf-8")
     for needle in ("## Build summary", "## Assumptions", "## Danger ranges", "verdict: CLASH",
-                   "![Campbell diagram", "(img/diagram.png)", "## Suggestions", "propellers off",
+                   "![Campbell diagram", "(img/diagram.png)", "## Suggestions", "propellers removed",
                    "drive model: loaded model"):
         assert needle in text, needle
     assert diagram.read_bytes()[:4] == b"\x89PNG"

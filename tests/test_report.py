@@ -92,7 +92,7 @@ def test_every_format_carries_the_cautions(result, fmt):
     for caution in CAUTIONS:
         assert caution in text
     lowered = " ".join(CAUTIONS).lower()
-    assert "propellers off" in lowered and "supervision" in lowered and "aviation rules" in lowered
+    assert "propellers removed" in lowered and "supervision" in lowered and "aviation rules" in lowered
 
 
 def test_table_and_markdown_content(result):

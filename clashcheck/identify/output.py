@@ -13,17 +13,11 @@ import json
 import math
 from typing import Any
 
+from ..report import CAUTIONS
 from .result import ModesResult
 
 __all__ = ["to_json_dict", "render_json", "render_table", "render_toml", "CAUTIONS"]
 
-#: Caution lines carried by every output about hardware tests.
-CAUTIONS = (
-    "Tap tests are done with the propellers removed; bench runs in a rig behind guards.",
-    "Lithium packs are charged and stored under supervision.",
-    "Results are design advice; they defer to inspection, test flights in a safe area, "
-    "and the local aviation rules and licensed practice.",
-)
 
 
 def _r(x: float | None, nd: int = 6) -> float | None:

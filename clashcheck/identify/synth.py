@@ -15,12 +15,15 @@ chosen frequency and damping.
 
 from __future__ import annotations
 
+import io
 import math
 import os
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 
 import numpy as np
+
+from ..report import atomic_file
 
 __all__ = [
     "SynthMode",
@@ -306,27 +309,13 @@ def flight_blocks(
         done += n
 
 
-def _atomic(path: str | os.PathLike[str]):
-    import tempfile
-
-    folder = os.path.dirname(os.path.abspath(path))
-    fd, tmp = tempfile.mkstemp(dir=folder, prefix=".synth-", suffix=".tmp")
-    return fd, tmp
-
-
 def write_tap_wav(path: str | os.PathLike[str], samples: np.ndarray, sample_rate_hz: float) -> None:
     """Write a tap recording (full scale 1.0) as a 16-bit PCM WAV file."""
     from scipy.io import wavfile
 
     data = np.clip(np.round(np.asarray(samples) * 32768.0), -32768, 32767).astype(np.int16)
-    fd, tmp = _atomic(path)
-    os.close(fd)
-    try:
-        wavfile.write(tmp, int(round(sample_rate_hz)), data)
-        os.replace(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
+    with atomic_file(path) as fh:
+        wavfile.write(fh, int(round(sample_rate_hz)), data)
 
 
 def write_flight_csv(
@@ -352,26 +341,20 @@ def write_flight_csv(
         names.append(throttle_column)
     if rpm_column:
         names.append(rpm_column)
-    fd, tmp = _atomic(path)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(",".join(names) + "\n")
-            for blk in blocks:
-                cols, fmts = [], []
-                if time_column:
-                    cols.append(blk["time_s"])
-                    fmts.append("%.6f")
-                for k in range(len(axis_names)):
-                    cols.append(blk["signals"][:, k])
-                    fmts.append(signal_format)
-                if throttle_column:
-                    cols.append(blk["throttle"])
-                    fmts.append("%.3f")
-                if rpm_column:
-                    cols.append(blk["rotor_hz"] * 60.0)
-                    fmts.append("%.0f")
-                np.savetxt(fh, np.column_stack(cols), fmt=fmts, delimiter=",")
-        os.replace(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
+    with atomic_file(path) as raw, io.TextIOWrapper(raw, encoding="utf-8", newline="\n") as fh:
+        fh.write(",".join(names) + "\n")
+        for blk in blocks:
+            cols, fmts = [], []
+            if time_column:
+                cols.append(blk["time_s"])
+                fmts.append("%.6f")
+            for k in range(len(axis_names)):
+                cols.append(blk["signals"][:, k])
+                fmts.append(signal_format)
+            if throttle_column:
+                cols.append(blk["throttle"])
+                fmts.append("%.3f")
+            if rpm_column:
+                cols.append(blk["rotor_hz"] * 60.0)
+                fmts.append("%.0f")
+            np.savetxt(fh, np.column_stack(cols), fmt=fmts, delimiter=",")
