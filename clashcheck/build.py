@@ -563,12 +563,15 @@ def load_modes_file(path: str | Path) -> MeasuredModes:
     Modes from such a file are marked ``measured``.
     """
     data = _read_toml(path, "modes file")
-    f.check_keys(data, ("frame", "order_strengths", "name"), "")
-    frame = f.table(data, "frame", "", required=True)
-    assert frame is not None
-    f.check_keys(frame, ("modes",), "frame")
-    modes = _parse_modes(f.tables(frame, "modes", "frame"), "frame.modes", "measured")
-    if not modes:
-        raise InputError(f"{path}: frame.modes", "at least one [[frame.modes]] entry", [])
-    strengths = _parse_strengths(f.tables(data, "order_strengths", ""), "order_strengths")
+    try:
+        f.check_keys(data, ("frame", "order_strengths", "name"), "")
+        frame = f.table(data, "frame", "", required=True)
+        assert frame is not None
+        f.check_keys(frame, ("modes",), "frame")
+        modes = _parse_modes(f.tables(frame, "modes", "frame"), "frame.modes", "measured")
+        if not modes:
+            raise InputError("frame.modes", "at least one [[frame.modes]] entry", [])
+        strengths = _parse_strengths(f.tables(data, "order_strengths", ""), "order_strengths")
+    except InputError as exc:  # name the modes file, not only the field
+        raise InputError(f"{path}: {exc.field}", exc.expected, exc.got, exc.hint) from None
     return MeasuredModes(tuple(modes), strengths, str(path))
