@@ -80,7 +80,7 @@ def test_new_run_drops_the_unfinished_segment():
     stream = SegmentStream(100.0, 20)
     assert list(stream.feed(0, np.ones((15, 1)))) == []
     out = list(stream.feed(1, np.ones((25, 1))))  # the 15 samples of run 0 are not joined
-    assert sum(s.psd.shape[-1] for s in out) == 1
+    assert sum(s.psd.shape[0] for s in out) == 1
 
 
 @pytest.mark.parametrize("n", [4, 255, 256, 8000])

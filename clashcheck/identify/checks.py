@@ -166,7 +166,7 @@ class Conditioner:
         self._dt_sum = 0.0
         self._dt_sq = 0.0
         self._resample: bool | None = None
-        self._carry: tuple[float, np.ndarray, int] | None = None  # (t, row values, row)
+        self._carry: tuple[float, _Parts, int] | None = None  # (t, row values, data row)
         self._grid_next: float | None = None
         self._nch = len(recording.signal_names)
         self._sum = np.zeros(self._nch)
@@ -189,23 +189,16 @@ class Conditioner:
         self._rows_read += n
         if n == 0:
             return
-        parts = [block.signals]
-        if block.rotor_hz is not None:
-            parts.append(block.rotor_hz[:, None])
-        if block.throttle is not None:
-            parts.append(block.throttle[:, None])
-        values = np.hstack(parts) if len(parts) > 1 else block.signals
-        bad = ~np.isfinite(values).all(axis=1)
-        if block.time_s is not None:
-            bad |= ~np.isfinite(block.time_s)
-        if bad.any():
+        parts = _Parts(block.signals, block.rotor_hz, block.throttle)
+        bad = _bad_rows(block)
+        if bad is not None:
             self._missing += int(bad.sum())
             if self._first_missing is None:
                 self._first_missing = block.first_row + int(np.argmax(bad))
         if block.time_s is None:
-            yield from self._uniform(block, values, bad)
+            yield from self._uniform(block.first_row, parts, bad)
         else:
-            yield from self._timed(block, values, bad)
+            yield from self._timed(block.first_row, block.time_s, parts, bad)
 
     def finish(self) -> Findings:
         """Close the checks and return what they found."""
@@ -286,94 +279,89 @@ class Conditioner:
                 self._hi[k].add(col)
                 self._lo[k].add(-col)
 
-    def _emit(self, first_row: int, values: np.ndarray, block: Block) -> Run:
-        nsig = self._nch
-        sig = np.ascontiguousarray(values[:, :nsig])
-        col = nsig
-        rotor = thr = None
-        if block.rotor_hz is not None:
-            rotor = values[:, col].copy()
-            col += 1
-        if block.throttle is not None:
-            thr = values[:, col].copy()
-        self._account(sig)
-        return Run(self._run, first_row, sig, rotor, thr)
+    def _emit(self, first_row: int, parts: _Parts) -> Run:
+        self._account(parts.signals)
+        return Run(self._run, first_row, parts.signals, parts.rotor_hz, parts.throttle)
 
-    def _uniform(self, block: Block, values: np.ndarray, bad: np.ndarray) -> Iterator[Run]:
-        if not bad.any():
-            yield self._emit(block.first_row, values, block)
+    def _uniform(self, first_row: int, parts: _Parts, bad: np.ndarray | None) -> Iterator[Run]:
+        if bad is None:
+            yield self._emit(first_row, parts)
             return
         # split at missing rows; each missing stretch starts a new run
-        good = ~bad
-        edges = np.flatnonzero(np.diff(np.r_[0, good.astype(np.int8), 0]))
-        starts, stops = edges[::2], edges[1::2]
-        for a, b in zip(starts, stops):
+        edges = np.flatnonzero(np.diff(np.r_[0, (~bad).astype(np.int8), 0]))
+        for a, b in zip(edges[::2], edges[1::2]):
             if a > 0:
                 self._break()
-            yield self._emit(block.first_row + int(a), values[a:b], block)
+            yield self._emit(first_row + int(a), parts[a:b])
         if bad[-1]:
             self._break()
 
-    def _timed(self, block: Block, values: np.ndarray, bad: np.ndarray) -> Iterator[Run]:
-        t = block.time_s
-        assert t is not None
-        if bad.any():
-            good = ~bad
-            tg = t[good]
-            vg = values[good]
-            rows = np.flatnonzero(good) + block.first_row
-        else:
-            tg, vg = t, values
-            rows = np.arange(block.first_row, block.first_row + t.size)
-        if tg.size == 0:
+    def _timed(self, first_row: int, t: np.ndarray, parts: _Parts,
+               bad: np.ndarray | None) -> Iterator[Run]:
+        # data rows of the kept samples; None while they are first_row, first_row + 1, ...
+        rows: np.ndarray | None = None
+        if bad is not None:
+            keep = ~bad
+            t, parts, rows = t[keep], parts[keep], np.flatnonzero(keep) + first_row
+        if t.size == 0:
             self._break()
             return
         if self._dt is None:
-            d = np.diff(tg)
+            d = np.diff(t)
             d = d[d > 0]
             if d.size == 0:
-                raise RecordingError(self.rec.path, _row(self.rec, rows[0]),
+                raise RecordingError(self.rec.path, _row(self.rec, first_row if rows is None
+                                                         else rows[0]),
                                      "too few distinct timestamps to find the sample rate")
             d0 = float(np.median(d))
             steady = d[d <= GAP_FACTOR * d0]
             self._dt = float(steady.mean())  # the mean interval: unbiased under jitter
             self.fs = 1.0 / self._dt
-        # prepend the carried last sample so intervals span the block boundary
-        if self._carry is not None:
-            tg = np.r_[self._carry[0], tg]
-            vg = np.vstack([self._carry[1][None, :], vg])
-            rows = np.r_[self._carry[2], rows]
-            carried = True
+        # with the carried last sample of the previous block in front ("extended"
+        # indices), the intervals span the block boundary
+        carry = self._carry
+        off = 1 if carry is not None else 0
+        if carry is not None:
+            text = np.empty(t.size + 1)
+            text[0] = carry[0]
+            text[1:] = t
         else:
-            carried = False
-        d = np.diff(tg)
+            text = t
+
+        def row_at(e: int) -> int:
+            """Data row of extended index ``e``."""
+            if carry is not None and e == 0:
+                return carry[2]
+            return int(first_row + e - off if rows is None else rows[e - off])
+
+        d = np.diff(text)
         back = np.flatnonzero(d <= 0)
         if back.size:
             i = int(back[0]) + 1
             what = "repeats" if d[back[0]] == 0 else "goes backwards"
-            raise RecordingError(self.rec.path, _row(self.rec, rows[i]),
-                                 f"the time {what} ({tg[i - 1]:.9g} s, then {tg[i]:.9g} s)")
-        # missing rows also break runs: find where a dropped row sat between two kept ones
-        missing_between = np.zeros(d.size, dtype=bool)
-        if bad.any():
-            gap_rows = np.diff(rows) > 1
-            missing_between |= gap_rows
-        gaps = d > GAP_FACTOR * self._dt
-        brk = gaps | missing_between
-        if gaps.any():
-            self._gaps += int(gaps.sum())
-            k = int(np.argmax(np.where(gaps, d, 0.0)))
+            raise RecordingError(self.rec.path, _row(self.rec, row_at(i)),
+                                 f"the time {what} ({text[i - 1]:.9g} s, then {text[i]:.9g} s)")
+        brk = d > GAP_FACTOR * self._dt
+        if brk.any():
+            self._gaps += int(brk.sum())
+            k = int(np.argmax(np.where(brk, d, 0.0)))
             if d[k] > self._longest_gap[0]:
-                self._longest_gap = (float(d[k]), int(rows[k + 1]))
-        ok = d[~brk]
+                self._longest_gap = (float(d[k]), row_at(k + 1))
+        if rows is not None:  # a dropped row between two kept ones also breaks the run
+            rows_ext = rows if carry is None else np.r_[carry[2], rows]
+            brk |= np.diff(rows_ext) > 1
+        broken = bool(brk.any())
+        ok = d[~brk] if broken else d
         if ok.size:
-            self._dt_n += ok.size
-            self._dt_sum += float(ok.sum())
-            self._dt_sq += float(np.dot(ok, ok))
-            rel = float(np.std(ok)) / self._dt
+            n_ok, s_ok, q_ok = ok.size, float(ok.sum()), float(np.dot(ok, ok))
+            self._dt_n += n_ok
+            self._dt_sum += s_ok
+            self._dt_sq += q_ok
+            rel = math.sqrt(max(q_ok / n_ok - (s_ok / n_ok) ** 2, 0.0)) / self._dt
             if rel > JITTER_REFUSE:
                 raise RecordingError(
-                    self.rec.path, f"rows {_row(self.rec, rows[0])[4:]}–{_row(self.rec, rows[-1])[4:]}",
+                    self.rec.path,
+                    f"rows {_row(self.rec, row_at(0))[4:]}–{_row(self.rec, row_at(text.size - 1))[4:]}",
                     f"timestamps jitter by {100 * rel:.3g} % of the sample interval, more than "
                     f"the {100 * JITTER_REFUSE:.0f} % that resampling can honestly repair",
                 )
@@ -381,41 +369,82 @@ class Conditioner:
                 self._resample = rel > JITTER_IGNORE
             elif rel > JITTER_IGNORE:
                 self._resample = True
-        # split into continuous pieces
-        cut = np.flatnonzero(brk) + 1
-        bounds = np.r_[0, cut, tg.size]
+        # split into continuous pieces (extended indices)
+        bounds = np.r_[0, np.flatnonzero(brk) + 1, text.size] if broken else (0, text.size)
         for j in range(len(bounds) - 1):
             a, b = int(bounds[j]), int(bounds[j + 1])
             if j > 0:
                 self._break()
-            piece_t, piece_v = tg[a:b], vg[a:b]
-            skip_first = carried and j == 0  # the carried sample was handed on already
-            yield from self._piece(piece_t, piece_v, int(rows[a]), block, skip_first)
-        self._carry = (float(tg[-1]), vg[-1].copy(), int(rows[-1]))
+            with_carry = carry is not None and j == 0  # its sample was handed on already
+            yield from self._piece(text[a:b], parts, a - off, b - off, row_at(a), with_carry)
+        self._carry = (float(text[-1]), parts[parts.signals.shape[0] - 1:], row_at(text.size - 1))
 
-    def _piece(self, t, v, first_row, block, skip_first) -> Iterator[Run]:
+    def _piece(self, t: np.ndarray, parts: _Parts, a: int, b: int, first_row: int,
+               with_carry: bool) -> Iterator[Run]:
+        """Hand on block rows ``a:b`` (times ``t``; ``a`` is -1 for the carried sample)."""
         if not self._resample:
-            if skip_first:
-                t, v = t[1:], v[1:]
-            if t.size:
-                yield self._emit(first_row, v, block)
+            a = max(a, 0)
+            if b > a:
+                yield self._emit(first_row if not with_carry else first_row + 1, parts[a:b])
             return
-        if self._grid_next is None or not skip_first:
+        if self._grid_next is None or not with_carry:
             self._grid_next = float(t[0])
         start = self._grid_next
         if t[-1] < start:
             return
+        values = parts[max(a, 0):b].stacked()
+        if a < 0:  # the carried sample leads this piece
+            values = np.vstack([self._carry[1].stacked(), values])
         count = int(math.floor((t[-1] - start) / self._dt + 1e-9)) + 1
         grid = start + self._dt * np.arange(count)
-        out = np.empty((count, v.shape[1]))
-        for k in range(v.shape[1]):
-            out[:, k] = np.interp(grid, t, v[:, k])
+        out = np.empty((count, values.shape[1]))
+        for k in range(values.shape[1]):
+            out[:, k] = np.interp(grid, t, values[:, k])
         self._grid_next = start + self._dt * count
-        yield self._emit(first_row, out, block)
+        yield self._emit(first_row, parts.unstacked(out))
 
     def _break(self) -> None:
         self._run += 1
         self._grid_next = None
+
+
+@dataclass
+class _Parts:
+    """The per-row arrays of a block, sliced and indexed together."""
+
+    signals: np.ndarray
+    rotor_hz: np.ndarray | None
+    throttle: np.ndarray | None
+
+    def __getitem__(self, index) -> _Parts:
+        return _Parts(self.signals[index],
+                      None if self.rotor_hz is None else self.rotor_hz[index],
+                      None if self.throttle is None else self.throttle[index])
+
+    def stacked(self) -> np.ndarray:
+        """One (rows, columns) array: signals, then rotor rate and throttle if present."""
+        extra = [a[:, None] for a in (self.rotor_hz, self.throttle) if a is not None]
+        return np.hstack([self.signals, *extra]) if extra else self.signals
+
+    def unstacked(self, values: np.ndarray) -> _Parts:
+        """The inverse of :meth:`stacked` for an array of the same columns."""
+        nsig = self.signals.shape[1]
+        col = iter(range(nsig, values.shape[1]))
+        rotor = None if self.rotor_hz is None else values[:, next(col)]
+        thr = None if self.throttle is None else values[:, next(col)]
+        return _Parts(np.ascontiguousarray(values[:, :nsig]), rotor, thr)
+
+
+def _bad_rows(block: Block) -> np.ndarray | None:
+    """Rows with a missing value (NaN, ±inf) in any used column; ``None`` when there are none."""
+    arrays = [a for a in (block.signals, block.rotor_hz, block.throttle, block.time_s)
+              if a is not None]
+    if all(np.isfinite(a).all() for a in arrays):  # the common case: whole-array checks
+        return None
+    bad = ~np.isfinite(block.signals).all(axis=1)
+    for a in arrays[1:]:
+        bad |= ~np.isfinite(a)
+    return bad
 
 
 def _row(rec: Recording, data_row: int) -> str:

@@ -186,7 +186,7 @@ class _Bins:
         edges = np.r_[0, np.flatnonzero(np.diff(keys)) + 1, keys.size]
         for a, b in zip(edges[:-1], edges[1:]):
             k = int(keys[a])
-            part = psd[:, :, a:b].sum(axis=-1)
+            part = psd[a:b].sum(axis=0)
             if k in self.sums:
                 self.sums[k] += part
             else:
@@ -286,10 +286,11 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
         fs = state["fs"]
         stream: SegmentStream = state["stream"]  # type: ignore[assignment]
         df = stream.freq_hz[1]
-        total = psd.sum(axis=0)  # sum over axes: (freq, seg)
-        c = np.vstack([np.zeros((1, total.shape[1])), np.cumsum(total, axis=0)])
-        nf = total.shape[0]
-        seg_idx = np.arange(total.shape[1])
+        total = psd.sum(axis=1)  # sum over axes: (seg, freq)
+        c = np.zeros((total.shape[0], total.shape[1] + 1))
+        np.cumsum(total, axis=1, out=c[:, 1:])
+        nf = total.shape[1]
+        seg_idx = np.arange(total.shape[0])
         for j, k in enumerate(order_arr):
             fk = k * rotor
             # only segments where the rotor rate held steady: the line then fits in the
@@ -306,8 +307,8 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
             hi = np.clip(np.round((fk + hw) / df).astype(int) + 1, 1, nf)
             blo = np.clip(np.round((fk - 3 * hw) / df).astype(int), 0, nf - 1)
             bhi = np.clip(np.round((fk + 3 * hw) / df).astype(int) + 1, 1, nf)
-            line = c[hi, seg_idx] - c[lo, seg_idx]
-            side = (c[bhi, seg_idx] - c[blo, seg_idx]) - line
+            line = c[seg_idx, hi] - c[seg_idx, lo]
+            side = (c[seg_idx, bhi] - c[seg_idx, blo]) - line
             nside = np.maximum((bhi - blo) - (hi - lo), 1)
             power = np.maximum(line - side / nside * (hi - lo), 0.0) * df
             order_samples[j].append(power[ok])
@@ -334,8 +335,8 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
                 live = value > (1.0 if is_rotor else 0.02)
                 if not live.any():
                     continue
-                psd = segs.psd if live.all() else segs.psd[:, :, live]
-                bins.add(value[live], psd[:, state["band"], :])
+                psd = segs.psd if live.all() else segs.psd[live]
+                bins.add(value[live], psd[:, :, state["band"]])
                 if is_rotor:
                     measure_orders(psd, value[live], spread[live])
         if progress is not None:

@@ -113,7 +113,7 @@ def segment_length(sample_rate_hz: float, resolution_hz: float) -> int:
 class Segments:
     """Periodograms of consecutive Welch segments from one block."""
 
-    #: PSD per segment, shape (channels, frequencies, segments) [units²/Hz].
+    #: PSD per segment, shape (segments, channels, frequencies) [units²/Hz].
     psd: np.ndarray
     #: Mean of each auxiliary series over each segment, shape (series, segments).
     aux_mean: np.ndarray
@@ -140,7 +140,7 @@ class SegmentStream:
     >>> s = SegmentStream(100.0, 20)
     >>> out = list(s.feed(0, np.zeros((50, 1))))
     >>> out[0].psd.shape
-    (1, 11, 4)
+    (4, 1, 11)
     """
 
     def __init__(self, sample_rate_hz: float, nperseg: int, noverlap: int | None = None,
@@ -153,8 +153,11 @@ class SegmentStream:
         self.nfft = self.nperseg if nfft is None else int(nfft)
         self.hop = self.nperseg - self.noverlap
         self.freq_hz = np.fft.rfftfreq(self.nfft, 1.0 / self.fs)
-        self._window = hann_periodic(self.nperseg)
-        self._scale = 1.0 / (self.fs * float(np.sum(self._window**2)))
+        window = hann_periodic(self.nperseg)
+        # density scaling and the one-sided doubling are folded into the window
+        # (|FFT(c·x)|² = c²·|FFT(x)|²); the DC and Nyquist bins, which are not
+        # doubled, are halved back after the FFT
+        self._window = window * np.sqrt(2.0 / (self.fs * float(np.sum(window**2))))
         self._run: int | None = None
         self._buf: np.ndarray | None = None
         self._aux: np.ndarray | None = None
@@ -193,24 +196,32 @@ class SegmentStream:
         self._aux = self._aux[keep:].copy()
 
     def _periodograms(self, buf: np.ndarray, nseg: int) -> np.ndarray:
-        """Welch's modified periodograms of ``nseg`` segments, (channels, freqs, segments).
+        """Welch's modified periodograms of ``nseg`` segments, (segments, channels, freqs).
 
         The same arithmetic as :func:`scipy.signal.spectrogram` (constant detrend,
         density scaling, one-sided doubling) on numpy's FFT, so streaming needs no
         scipy import; the tests hold it against :func:`scipy.signal.welch`.
         """
-        # all channels in one pass: frames (segments, channels, nperseg) as a view,
-        # one detrended copy windowed in place, one 2-D FFT call
-        frames = np.lib.stride_tricks.sliding_window_view(buf, self.nperseg, axis=0)
-        frames = frames[:: self.hop][:nseg]
-        seg = frames - frames.mean(axis=-1, keepdims=True)
-        seg *= self._window
-        spec = np.fft.rfft(seg, n=self.nfft, axis=-1)  # (segments, channels, freqs)
-        power = spec.real**2
-        power += spec.imag**2
-        power *= self._scale
-        power[..., 1:-1 if self.nfft % 2 == 0 else None] *= 2.0
-        return np.ascontiguousarray(power.transpose(1, 2, 0))
+        n = self.nperseg
+        # all channels in one pass: frames (channels, segments, nperseg) as a view of
+        # the channel-major samples, detrended into a zero-padded buffer, windowed in
+        # place, one FFT call
+        chans = np.ascontiguousarray(buf.T)
+        frames = np.lib.stride_tricks.sliding_window_view(chans, n, axis=1)[:, :: self.hop][:, :nseg]
+        seg = np.zeros(frames.shape[:2] + (self.nfft,))
+        head = seg[..., :n]
+        np.subtract(frames, frames.mean(axis=-1, keepdims=True), out=head)
+        head *= self._window
+        spec = np.fft.rfft(seg, axis=-1)  # (channels, segments, freqs), C order
+        del seg
+        parts = spec.view(np.float64)  # re, im, re, im, ...
+        np.multiply(parts, parts, out=parts)
+        power = np.add(parts[..., 0::2], parts[..., 1::2])
+        power[..., 0] *= 0.5
+        if self.nfft % 2 == 0:
+            power[..., -1] *= 0.5
+        power = power.transpose(1, 0, 2)  # (segments, channels, freqs), a view
+        return power
 
     def _aux_means(self, starts: np.ndarray) -> np.ndarray:
         if not self._aux.shape[1]:
@@ -225,7 +236,7 @@ class WelchAverage:
     Examples
     --------
     >>> avg = WelchAverage()
-    >>> avg.add(np.ones((1, 3, 2)))
+    >>> avg.add(np.ones((2, 1, 3)))
     >>> avg.mean().tolist(), avg.count
     ([[1.0, 1.0, 1.0]], 2)
     """
@@ -235,10 +246,10 @@ class WelchAverage:
         self.count = 0
 
     def add(self, psd: np.ndarray) -> None:
-        """Add periodograms of shape (channels, frequencies, segments)."""
-        s = psd.sum(axis=-1)
+        """Add periodograms of shape (segments, channels, frequencies)."""
+        s = psd.sum(axis=0)
         self._sum = s if self._sum is None else self._sum + s
-        self.count += psd.shape[-1]
+        self.count += psd.shape[0]
 
     def mean(self) -> np.ndarray:
         """Mean PSD, shape (channels, frequencies)."""
