@@ -10,9 +10,27 @@ removed; lithium packs are charged and stored under supervision; local
 aviation rules and licensed practice come first.
 """
 
-from .build import Build, load_build, load_modes_file
-from .clash import ClashResult, check_build
+from importlib import import_module
+from typing import TYPE_CHECKING, Any
+
 from .errors import ClashcheckError, InputError, OutputError, RecordingError
+
+if TYPE_CHECKING:
+    from .build import Build, load_build, load_modes_file
+    from .clash import ClashResult, check_build
+
+#: Public names loaded on first use, so that ``import clashcheck.errors`` (or the
+#: recording worker) does not pay for the build and clash modules.
+_LAZY = {"Build": "build", "load_build": "build", "load_modes_file": "build",
+         "ClashResult": "clash", "check_build": "clash"}
+
+
+def __getattr__(name: str) -> Any:
+    if name in _LAZY:
+        value = getattr(import_module(f".{_LAZY[name]}", __name__), name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 __all__ = [
     "Build",

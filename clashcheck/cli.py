@@ -445,5 +445,5 @@ def _modes_flight_options(opts: dict, axes: str | None, build_file: Path | None)
         out["blades"] = out["blades"] or build.prop.blades
         out["poles"] = out["poles"] or build.motor.poles
         out["slots"] = out["slots"] or build.motor.slots
-        out["rotor_of_throttle"] = lambda thr: drive.rotor_hz(thr, "nominal")
+        out["rotor_of_throttle"] = drive.rotor_hz  # nominal pack; a bound method pickles
     return out

@@ -353,7 +353,7 @@ class Conditioner:
         broken = bool(brk.any())
         ok = d[~brk] if broken else d
         if ok.size:
-            n_ok, s_ok, q_ok = ok.size, float(ok.sum()), float(np.dot(ok, ok))
+            n_ok, s_ok, q_ok = ok.size, float(ok.sum()), float(np.einsum("i,i->", ok, ok))  # not BLAS: its idle threads spin
             self._dt_n += n_ok
             self._dt_sum += s_ok
             self._dt_sq += q_ok

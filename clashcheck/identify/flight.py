@@ -35,14 +35,15 @@ import numpy as np
 
 from ..errors import InputError
 from ..modes import MODE_AXES
-from .checks import USABLE_BAND, Conditioner, require_duration, require_sample_rate
+from .checks import USABLE_BAND, Conditioner, Findings, require_duration, require_sample_rate
 from .damping import corrected_half_power, half_power_raw, refine_frequency, stationary_model
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
 from .result import MeasuredMode, ModesResult, OrderStrength
 from .spectra import SegmentStream, hann_periodic, segment_length
 
-__all__ = ["FlightSettings", "analyse_flight", "order_families", "MIN_SEGMENTS", "MIN_BINS"]
+__all__ = ["FlightSettings", "analyse_flight", "stream_flight", "StreamedFlight", "order_families",
+           "MIN_SEGMENTS", "MIN_BINS"]
 
 #: Fewest Welch segments a flight analysis accepts.
 MIN_SEGMENTS = 16
@@ -151,23 +152,25 @@ def order_families(blades: int | None, poles: int | None,
     return dict(sorted(out.items())), notes
 
 
+def _import_scipy() -> None:
+    """Import the scipy parts that the peak analysis needs."""
+    try:
+        import scipy.ndimage  # noqa: F401
+        import scipy.optimize  # noqa: F401
+        import scipy.signal  # noqa: F401
+    except ImportError:  # reported where the modules are used
+        pass
+
+
 def _preload_scipy() -> None:
     """Import the scipy parts needed at the end in a background thread.
 
     Reading and the FFTs mostly run outside the GIL, so a long recording hides
-    most of scipy's import time; a short one just waits for it at the end.
+    part of scipy's import time; a short one just waits for it at the end.
     """
     import threading
 
-    def load() -> None:
-        try:
-            import scipy.ndimage  # noqa: F401
-            import scipy.optimize  # noqa: F401
-            import scipy.signal  # noqa: F401
-        except ImportError:  # reported where the modules are used
-            pass
-
-    threading.Thread(target=load, name="clashcheck-preload", daemon=True).start()
+    threading.Thread(target=_import_scipy, name="clashcheck-preload", daemon=True).start()
 
 
 class _Bins:
@@ -199,6 +202,9 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
                    progress: Progress | None = None) -> ModesResult:
     """Find stationary frame modes and measured order strengths in a flight recording.
 
+    A long recording streams in a second process (see :mod:`.worker`) while this
+    one loads scipy for the peak analysis; the result is the same either way.
+
     Parameters
     ----------
     recording : Recording
@@ -219,7 +225,33 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
     RecordingError
         If the recording is too short or its sample rate too low.
     """
-    _preload_scipy()  # scipy loads in the background while the recording streams
+    from . import worker
+
+    plan = _plan(recording, settings)
+    streamed = None
+    child = worker.start("flight", recording, settings) if worker.wanted(recording, settings) else None
+    if child is not None:
+        with child:
+            _import_scipy()  # here, while the child streams the recording
+            streamed = child.result(progress)
+    if streamed is None:  # a short recording, or no second process
+        _preload_scipy()  # scipy loads in the background while the recording streams
+        streamed = stream_flight(recording, settings, progress)
+    return _finish(recording, settings, plan, streamed)
+
+
+@dataclass(frozen=True)
+class _Plan:
+    """What the settings and the recording's columns decide before any sample is read."""
+
+    rotor_known: bool
+    families: dict[float, str]
+    order_list: list[float]
+    axes: tuple[str, ...]
+    warnings: tuple[str, ...]
+
+
+def _plan(recording: Recording, settings: FlightSettings) -> _Plan:
     if not (recording.has_rotor or recording.has_throttle):
         raise InputError("--rpm-columns", "rotor-rate columns (--rpm-columns) or a throttle "
                          "column (--throttle-column)", None,
@@ -238,10 +270,50 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
     if axes is None or len(axes) != nch:
         raise InputError("--axes", f"{nch} axis names (roll, pitch, yaw or any), one per signal",
                          settings.axes)
-    order_list = sorted(families)
-    order_arr = np.array(order_list)
+    return _Plan(rotor_known, families, sorted(families), tuple(axes), tuple(warnings))
+
+
+@dataclass
+class StreamedFlight:
+    """The totals of a flight recording's streaming pass: small, and all the peak
+    analysis needs (it crosses from the worker process by pickle)."""
+
+    #: Sample rate [Hz].
+    sample_rate_hz: float
+    #: Welch segment length and FFT length [samples].
+    nperseg: int
+    nfft: int
+    #: The analysed band, as a slice of the FFT bins.
+    band: slice
+    #: Per rotor-rate bin: summed band periodograms (channels, freqs), segment
+    #: counts and summed bin values (rotor rate [Hz] or throttle).
+    sums: dict[int, np.ndarray]
+    counts: dict[int, int]
+    values: dict[int, float]
+    #: Per order (in :func:`order_families` order): line power of each steady segment.
+    order_samples: list[np.ndarray]
+    #: The recording checks' findings.
+    findings: Findings
+    #: Warnings of the pass (without the findings' own).
+    warnings: list[str]
+
+
+def stream_flight(recording: Recording, settings: FlightSettings = FlightSettings(),
+                  progress: Progress | None = None) -> StreamedFlight:
+    """The streaming pass of :func:`analyse_flight`: checks, spectra, bins, order lines.
+
+    Uses numpy only; nothing of length proportional to the recording is kept.
+
+    Raises
+    ------
+    InputError, RecordingError
+        As :func:`analyse_flight`.
+    """
+    plan = _plan(recording, settings)
+    warnings = list(plan.warnings)
+    order_arr = np.array(plan.order_list)
     # per-segment line powers; small (orders × segments), kept for a median
-    order_samples: list[list[np.ndarray]] = [[] for _ in order_list]
+    order_samples: list[list[np.ndarray]] = [[] for _ in plan.order_list]
 
     cond = Conditioner(recording)
     state: dict[str, object] = {}
@@ -342,35 +414,48 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
         if progress is not None:
             progress(block.first_row + block.signals.shape[0], recording.rows_estimate)
     findings = cond.finish()
-    warnings = list(findings.warnings) + warnings
     if "fs" not in state:
         require_duration(recording.path, findings.duration_s, 1.0, "a flight analysis")
-    fs = float(state["fs"])
-    nper = int(state["nper"])
-    stream = state["stream"]
-    total = sum(bins.counts.values())
+    stream: SegmentStream = state["stream"]  # type: ignore[assignment]
+    samples = [np.concatenate(parts) if parts else np.zeros(0) for parts in order_samples]
+    return StreamedFlight(float(state["fs"]), int(state["nper"]), stream.nfft,
+                          state["band"], bins.sums, bins.counts, bins.values,  # type: ignore[arg-type]
+                          samples, findings, warnings)
+
+
+def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
+            streamed: StreamedFlight) -> ModesResult:
+    """The peak analysis of :func:`analyse_flight` on the streamed totals (uses scipy)."""
+    findings = streamed.findings
+    warnings = list(findings.warnings) + list(streamed.warnings)
+    fs, nper = streamed.sample_rate_hz, streamed.nperseg
+    rotor_known, families, order_list, axes = (plan.rotor_known, plan.families, plan.order_list,
+                                               plan.axes)
+    nch = len(axes)
+    total = sum(streamed.counts.values())
     need = (MIN_SEGMENTS + 1) / 2 * nper / fs
     if total < MIN_SEGMENTS:
         require_duration(
             recording.path, total * nper / 2 / fs, need,
             f"a resolution of {fs / nper:.3g} Hz with {MIN_SEGMENTS} half-overlapping averages "
             "(with rotor turning)")
-    keys = sorted(bins.counts)
+    keys = sorted(streamed.counts)
     # bins with a handful of segments (passing through on a throttle change) are too
     # noisy to vote in the median
-    typical = float(np.median([bins.counts[k] for k in keys]))
+    typical = float(np.median([streamed.counts[k] for k in keys]))
     least = max(2.0, 0.25 * typical)
-    populated = [k for k in keys if bins.counts[k] >= least] or keys
-    values = np.array([bins.values[k] / bins.counts[k] for k in populated])
-    counts = np.array([bins.counts[k] for k in populated])
+    populated = [k for k in keys if streamed.counts[k] >= least] or keys
+    values = np.array([streamed.values[k] / streamed.counts[k] for k in populated])
+    counts = np.array([streamed.counts[k] for k in populated])
     unit = "Hz rotor rate" if rotor_known else "throttle"
     if len(populated) < MIN_BINS:
         warnings.append(
             f"the {unit} varied over only {len(populated)} bins ({values.min():.3g}–"
             f"{values.max():.3g}); modes and order lines cannot be fully told apart; fly a wider "
             "range of throttle")
-    freq = stream.freq_hz[state["band"]]
-    per_bin = np.stack([bins.sums[k] / bins.counts[k] for k in populated])  # (bins, ch, f)
+    band_sl = streamed.band
+    freq = np.fft.rfftfreq(streamed.nfft, 1.0 / fs)[band_sl]
+    per_bin = np.stack([streamed.sums[k] / streamed.counts[k] for k in populated])  # (bins, ch, f)
     # one level per bin, common to the axes, so the axes keep their relative levels
     level = np.median(per_bin.sum(axis=1, keepdims=True), axis=2, keepdims=True)
     level[level <= 0] = 1.0
@@ -378,8 +463,7 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
     stationary = np.median(normed, axis=0)  # (ch, f)
     k_eff = max(1.0, 0.64 * float(np.sum(counts)))
     window = hann_periodic(nper)
-    full_model = stationary_model(fs, window, stream.nfft)
-    band_sl = state["band"]
+    full_model = stationary_model(fs, window, streamed.nfft)
 
     def model(fn: float, z: float) -> np.ndarray:
         return full_model(fn, z)[band_sl]
@@ -421,7 +505,7 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
         return hp, fn
 
     modes = _merge_axes(cands, axes, fs / nper, settings.max_modes, corrected)
-    orders = _orders(order_list, order_samples, families, rotor_known, warnings)
+    orders = _orders(order_list, streamed.order_samples, families, rotor_known, warnings)
     return ModesResult(
         recording=os.path.basename(recording.path), kind="flight",
         method="flight: Welch spectra binned by " + ("rotor rate" if rotor_known else "throttle")
@@ -529,8 +613,7 @@ def _orders(order_list, samples, families, rotor_known, warnings) -> tuple[Order
     if not rotor_known:
         return ()
     amps, counts = {}, {}
-    for k, parts in zip(order_list, samples):
-        vals = np.concatenate(parts) if parts else np.zeros(0)
+    for k, vals in zip(order_list, samples):
         if vals.size == 0:
             warnings.append(f"order {k:g} ({families[k]}) was never inside the analysed band "
                             "while the rotor rate held steady; not measured")

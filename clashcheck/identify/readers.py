@@ -129,6 +129,8 @@ class Recording:
     #: True when rotor-rate columns are present.
     has_rotor: bool
     _blocks: Callable[[int], Iterator[Block]] = field(repr=False, default=None)  # type: ignore[assignment]
+    #: The column choice it was opened with (so it can be opened again elsewhere).
+    columns: Columns | None = None
 
     def blocks(self, block_rows: int = BLOCK_ROWS, prefetch: bool = True) -> Iterator[Block]:
         """Stream the recording in blocks of at most ``block_rows`` rows.
@@ -361,7 +363,7 @@ def _open_csv(path: str, columns: Columns) -> Recording:
             yield from _csv_blocks_numpy(path, delim, used, ncols, block_rows, remap, columns)
 
     return Recording(path, "csv", tuple(sig_names), columns.sample_rate_hz, None, rows,
-                     thr is not None, bool(rpm), blocks)
+                     thr is not None, bool(rpm), blocks, columns)
 
 
 def _csv_blocks_pandas(pd, path, delim, names, used, ncols, block_rows, remap,
@@ -539,7 +541,7 @@ def _open_wav(path: str, columns: Columns) -> Recording:
 
     names = tuple(f"ch{i}" for i in idx)
     return Recording(path, "wav", names, float(rate), full_scale, data.shape[0], False, False,
-                     blocks)
+                     blocks, columns)
 
 
 def _channel_indices(path: str, wanted: tuple[str, ...] | None, nch: int, what: str) -> list[int]:
@@ -609,4 +611,4 @@ def _open_npy(path: str, columns: Columns) -> Recording:
             yield Block(start, time_s, sigs, throttle, rotor)
 
     return Recording(path, "npy", tuple(sig_names), columns.sample_rate_hz, None, nrows,
-                     thr is not None, bool(rpm), blocks)
+                     thr is not None, bool(rpm), blocks, columns)

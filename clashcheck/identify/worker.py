@@ -1,0 +1,222 @@
+"""A second process for the streaming pass of a long flight analysis.
+
+The streaming pass (reading the file, the recording checks, the spectra; numpy
+and, for CSV, pandas) and the import of scipy for the peak analysis are both
+mostly Python-level work.  In one process they take turns under the GIL; in two
+processes they run side by side on two cores.  So for a long recording
+:func:`~.flight.analyse_flight` starts ``python -m clashcheck.identify.worker``,
+hands it the request, imports scipy while the child streams, and then finishes
+the analysis on the child's small totals (:class:`~.flight.StreamedFlight`).
+The numbers are the same as in one process: the child runs the same code.
+
+Used when all of these hold (:func:`wanted`):
+
+- the recording file is at least :data:`MIN_BYTES` long;
+- the process may use two or more CPUs;
+- the request pickles (settings with a lambda for the rotor rate do not);
+- the environment variable ``CLASHCHECK_WORKER`` is not ``off`` (or ``0``);
+  ``on`` skips the first two conditions.
+
+If the child cannot start, or ends before it says it is ready, the pass runs
+in this process instead.  The request and the child's messages are pickles on
+the two private pipes between parent and child; no file or user text is ever
+unpickled.  The child's stderr goes to a temporary file, quoted if it fails.
+
+Messages from the child, one pickle each: ``("ready",)``, ``("progress",
+rows_done, rows_total)``, then ``("done", totals)``, ``("error", exc)`` for a
+:class:`~clashcheck.errors.ClashcheckError`, or ``("crash", traceback_text)``.
+"""
+
+from __future__ import annotations
+
+import os
+import pickle
+import subprocess
+import sys
+import tempfile
+from collections.abc import Callable
+from typing import Any
+
+__all__ = ["MIN_BYTES", "wanted", "start", "Child", "main"]
+
+#: Recordings smaller than this [bytes] stream in the calling process.
+MIN_BYTES = 16 << 20
+
+#: Environment variable that turns the second process off (``off`` or ``0``).
+ENV_SWITCH = "CLASHCHECK_WORKER"
+
+
+def _cpus() -> int:
+    try:
+        return len(os.sched_getaffinity(0))
+    except AttributeError:  # not on every platform
+        return os.cpu_count() or 1
+
+
+def wanted(recording: Any, settings: Any) -> bool:
+    """True when a second process is worth starting for this analysis.
+
+    ``CLASHCHECK_WORKER=off`` (or ``0``) never starts one; ``on`` starts one
+    whatever the file's length and the number of CPUs (for tests and timing).
+    """
+    switch = os.environ.get(ENV_SWITCH, "").strip().lower()
+    if switch in ("off", "0") or not sys.executable:
+        return False
+    if getattr(recording, "columns", None) is None:
+        return False
+    try:
+        if switch != "on" and (os.path.getsize(recording.path) < MIN_BYTES or _cpus() < 2):
+            return False
+        pickle.dumps((recording.columns, settings))
+    except (OSError, pickle.PicklingError, TypeError, AttributeError):
+        return False
+    return True
+
+
+def start(kind: str, recording: Any, settings: Any) -> Child | None:
+    """Start the child on a request, or return ``None`` if it cannot start.
+
+    Parameters
+    ----------
+    kind : str
+        The pass to run; ``"flight"`` (:func:`~.flight.stream_flight`).
+    recording : Recording
+        The opened recording; the child opens its file again with the same columns.
+    settings : object
+        The analysis settings (must pickle).
+    """
+    request = pickle.dumps((kind, recording.path, recording.columns, settings),
+                           protocol=pickle.HIGHEST_PROTOCOL)
+    # the package's own folder first on the child's path, so the child imports
+    # this very copy (an editable checkout as well as an installed one)
+    root = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+    env = dict(os.environ)
+    # the child makes no BLAS calls; idle BLAS threads would only spin
+    env.setdefault("OPENBLAS_NUM_THREADS", "1")
+    env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
+    errfile = tempfile.TemporaryFile()
+    try:
+        proc = subprocess.Popen(
+            [sys.executable, "-P", "-m", "clashcheck.identify.worker"],
+            stdin=subprocess.PIPE, stdout=subprocess.PIPE, stderr=errfile, env=env,
+        )
+    except OSError:
+        errfile.close()
+        return None
+    child = Child(proc, errfile)
+    try:
+        proc.stdin.write(request)  # type: ignore[union-attr]
+        proc.stdin.close()  # type: ignore[union-attr]
+    except OSError:
+        child.close()
+        return None
+    return child
+
+
+class Child:
+    """A running child process; use as a context manager so it never outlives its use."""
+
+    def __init__(self, proc: subprocess.Popen, errfile: Any) -> None:
+        self.proc = proc
+        self._errfile = errfile
+        self.ready = False
+
+    def __enter__(self) -> Child:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    def close(self) -> None:
+        """Stop the child if it still runs, and release its pipes."""
+        if self.proc.poll() is None:
+            self.proc.kill()
+        self.proc.wait()
+        for pipe in (self.proc.stdin, self.proc.stdout):
+            if pipe is not None and not pipe.closed:
+                pipe.close()
+        self._errfile.close()
+
+    def _stderr_tail(self) -> str:
+        self._errfile.seek(0)
+        lines = self._errfile.read().decode("utf-8", "replace").strip().splitlines()
+        return lines[-1] if lines else "no message"
+
+    def result(self, progress: Callable[[int, int], None] | None = None) -> Any:
+        """Wait for the child's totals, passing its progress on.
+
+        Returns
+        -------
+        object or None
+            The totals; ``None`` when the child ended before it was ready (the
+            caller then runs the pass itself).
+
+        Raises
+        ------
+        ClashcheckError
+            The error the child's pass raised (a malformed recording, say).
+        RuntimeError
+            If the child failed after it started the pass.
+        """
+        assert self.proc.stdout is not None
+        while True:
+            try:
+                msg = pickle.load(self.proc.stdout)
+            except (EOFError, pickle.UnpicklingError, OSError):
+                code = self.proc.wait()
+                if not self.ready:
+                    return None
+                raise RuntimeError(f"the streaming process ended unexpectedly (exit code "
+                                   f"{code}): {self._stderr_tail()}") from None
+            tag = msg[0]
+            if tag == "ready":
+                self.ready = True
+            elif tag == "progress":
+                if progress is not None:
+                    progress(msg[1], msg[2])
+            elif tag == "done":
+                return msg[1]
+            elif tag == "error":
+                raise msg[1]
+            else:
+                raise RuntimeError(f"the streaming process failed:\n{msg[1]}")
+
+
+def main() -> int:
+    """The child's side: read one request from stdin, answer on stdout."""
+    out = sys.stdout.buffer
+    sys.stdout = sys.stderr  # nothing else may write into the message pipe
+
+    def send(msg: tuple) -> None:
+        pickle.dump(msg, out, protocol=pickle.HIGHEST_PROTOCOL)
+        out.flush()
+
+    import traceback
+
+    try:
+        kind, path, columns, settings = pickle.load(sys.stdin.buffer)
+        if kind != "flight":
+            raise ValueError(f"unknown pass {kind!r}")
+        from ..errors import ClashcheckError
+        from .flight import stream_flight
+        from .readers import open_recording
+    except Exception:
+        traceback.print_exc()
+        return 1  # not ready: the parent runs the pass itself
+    try:
+        send(("ready",))
+        rec = open_recording(path, columns)
+        totals = stream_flight(rec, settings, lambda done, total: send(("progress", done, total)))
+        send(("done", totals))
+    except BrokenPipeError:  # the parent stopped listening
+        return 0
+    except ClashcheckError as exc:
+        send(("error", exc))
+    except Exception:
+        send(("crash", traceback.format_exc()))
+        return 1
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
