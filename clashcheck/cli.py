@@ -401,6 +401,10 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
 
     Tap tests are done with the propellers removed. Results are design advice.
     """
+    from .identify import worker
+
+    if kind == "flight":  # a long recording streams in a second process: start it first
+        worker.warm_up(recording)
     from .identify import FlightSettings, TapSettings, analyse_flight, analyse_tap, open_recording
     from .identify.output import render_json, render_table, render_toml
 

@@ -13,10 +13,31 @@ Tap tests are done with the propellers removed.  Results are design advice.
 
 from __future__ import annotations
 
-from .flight import FlightSettings, analyse_flight
-from .readers import Columns, Recording, open_recording
-from .result import MeasuredMode, ModesResult, OrderStrength
-from .tap import TapSettings, analyse_tap
+from importlib import import_module
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from .flight import FlightSettings, analyse_flight
+    from .readers import Columns, Recording, open_recording
+    from .result import MeasuredMode, ModesResult, OrderStrength
+    from .tap import TapSettings, analyse_tap
+
+#: Public names and their modules, loaded on first use: ``from clashcheck.identify
+#: import worker`` (which the command line does first) then costs no numpy import.
+_LAZY = {
+    "FlightSettings": "flight", "analyse_flight": "flight",
+    "Columns": "readers", "Recording": "readers", "open_recording": "readers",
+    "MeasuredMode": "result", "ModesResult": "result", "OrderStrength": "result",
+    "TapSettings": "tap", "analyse_tap": "tap",
+}
+
+
+def __getattr__(name: str) -> Any:
+    if name in _LAZY:
+        value = getattr(import_module(f".{_LAZY[name]}", __name__), name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 __all__ = [
     "Columns",

@@ -280,10 +280,10 @@ def _sdof_autocorr(lags_s: np.ndarray, fn_hz: float, zeta: float) -> np.ndarray:
     R(τ) ∝ e^{−ζωₙ|τ|}(cos ω_d τ + ζ/√(1 − ζ²) sin ω_d|τ|)  (Thomson ch. 11; derived).
     """
     wn = 2.0 * math.pi * fn_hz
-    wd = wn * math.sqrt(1.0 - zeta * zeta)
-    a = np.abs(lags_s)
-    return np.exp(-zeta * wn * a) * (np.cos(wd * a) + zeta / math.sqrt(1 - zeta * zeta)
-                                     * np.sin(wd * a))
+    root = math.sqrt(1.0 - zeta * zeta)
+    # e^{(−ζωₙ + iω_d)|τ|}: the decay, cosine and sine from one complex exponential
+    e = np.exp(np.abs(lags_s) * complex(-zeta * wn, wn * root))
+    return e.real + (zeta / root) * e.imag
 
 
 def stationary_model(
@@ -311,12 +311,16 @@ def stationary_model(
     length = nfft * m
     wf = np.fft.rfft(window, length)
     rw = np.fft.irfft(np.abs(wf) ** 2, length)  # circular autocorrelation, no wrap
-    lags = np.arange(length)
-    lags = np.where(lags < length // 2, lags, lags - length) / sample_rate_hz
-    keep = np.abs(lags * sample_rate_hz) < n
+    k = np.arange(length)
+    lag = np.abs(np.where(k < length // 2, k, k - length))  # |lag| [samples]
+    keep = lag < n
+    # R(τ) is even: evaluate it once per |lag| < n and spread it over ±lag
+    rw_kept = np.where(keep, rw, 0.0)
+    where = np.where(keep, lag, 0)
+    lags_s = np.arange(n) / sample_rate_hz
 
     def model(fn_hz: float, zeta: float) -> np.ndarray:
-        c = np.where(keep, _sdof_autocorr(lags, fn_hz, zeta) * rw, 0.0)
+        c = _sdof_autocorr(lags_s, fn_hz, zeta)[where] * rw_kept
         return np.fft.rfft(c).real[::m][: nfft // 2 + 1]
 
     return model

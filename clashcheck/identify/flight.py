@@ -358,7 +358,9 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
         fs = state["fs"]
         stream: SegmentStream = state["stream"]  # type: ignore[assignment]
         df = stream.freq_hz[1]
-        total = psd.sum(axis=1)  # sum over axes: (seg, freq)
+        # sum over axes, (seg, freq), up to the highest bin an order line is read at
+        top = min(psd.shape[2], int(USABLE_BAND * fs / df) + 2)
+        total = psd[:, :, :top].sum(axis=1)
         c = np.zeros((total.shape[0], total.shape[1] + 1))
         np.cumsum(total, axis=1, out=c[:, 1:])
         nf = total.shape[1]

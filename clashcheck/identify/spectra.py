@@ -161,6 +161,7 @@ class SegmentStream:
         self._run: int | None = None
         self._buf: np.ndarray | None = None
         self._aux: np.ndarray | None = None
+        self._pad: np.ndarray | None = None
 
     def feed(self, run: int, x: np.ndarray, aux: np.ndarray | None = None) -> Iterator[Segments]:
         """Add samples of run ``run``; yield the segments they complete.
@@ -208,12 +209,11 @@ class SegmentStream:
         # place, one FFT call
         chans = np.ascontiguousarray(buf.T)
         frames = np.lib.stride_tricks.sliding_window_view(chans, n, axis=1)[:, :: self.hop][:, :nseg]
-        seg = np.zeros(frames.shape[:2] + (self.nfft,))
+        seg = self._padded(frames.shape[0], nseg)
         head = seg[..., :n]
         np.subtract(frames, frames.mean(axis=-1, keepdims=True), out=head)
         head *= self._window
         spec = np.fft.rfft(seg, axis=-1)  # (channels, segments, freqs), C order
-        del seg
         parts = spec.view(np.float64)  # re, im, re, im, ...
         np.multiply(parts, parts, out=parts)
         power = np.add(parts[..., 0::2], parts[..., 1::2])
@@ -222,6 +222,17 @@ class SegmentStream:
             power[..., -1] *= 0.5
         power = power.transpose(1, 0, 2)  # (segments, channels, freqs), a view
         return power
+
+    def _padded(self, nch: int, nseg: int) -> np.ndarray:
+        """A zero-padded segment buffer (channels, nseg, nfft), kept between blocks.
+
+        Only the first ``nperseg`` samples of each row are ever written, so the
+        padding stays zero and the buffer is not cleared again.
+        """
+        pad = self._pad
+        if pad is None or pad.shape[0] != nch or pad.shape[1] < nseg:
+            pad = self._pad = np.zeros((nch, nseg, self.nfft))
+        return pad[:, :nseg]
 
     def _aux_means(self, starts: np.ndarray) -> np.ndarray:
         if not self._aux.shape[1]:

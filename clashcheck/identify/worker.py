@@ -29,6 +29,7 @@ rows_done, rows_total)``, then ``("done", totals)``, ``("error", exc)`` for a
 
 from __future__ import annotations
 
+import atexit
 import os
 import pickle
 import subprocess
@@ -37,7 +38,7 @@ import tempfile
 from collections.abc import Callable
 from typing import Any
 
-__all__ = ["MIN_BYTES", "wanted", "start", "Child", "main"]
+__all__ = ["MIN_BYTES", "ENV_SWITCH", "wanted", "warm_up", "start", "Child", "main"]
 
 #: Recordings smaller than this [bytes] stream in the calling process.
 MIN_BYTES = 16 << 20
@@ -53,28 +54,88 @@ def _cpus() -> int:
         return os.cpu_count() or 1
 
 
+def _switch() -> str:
+    return os.environ.get(ENV_SWITCH, "").strip().lower()
+
+
+def _file_wanted(path: str) -> bool:
+    """The checks that need only the file: the switch, its length and the CPUs."""
+    switch = _switch()
+    if switch in ("off", "0") or not sys.executable:
+        return False
+    if switch == "on":
+        return True
+    try:
+        return os.path.getsize(path) >= MIN_BYTES and _cpus() >= 2
+    except OSError:
+        return False
+
+
 def wanted(recording: Any, settings: Any) -> bool:
     """True when a second process is worth starting for this analysis.
 
     ``CLASHCHECK_WORKER=off`` (or ``0``) never starts one; ``on`` starts one
     whatever the file's length and the number of CPUs (for tests and timing).
     """
-    switch = os.environ.get(ENV_SWITCH, "").strip().lower()
-    if switch in ("off", "0") or not sys.executable:
-        return False
-    if getattr(recording, "columns", None) is None:
+    if getattr(recording, "columns", None) is None or not _file_wanted(recording.path):
         return False
     try:
-        if switch != "on" and (os.path.getsize(recording.path) < MIN_BYTES or _cpus() < 2):
-            return False
         pickle.dumps((recording.columns, settings))
-    except (OSError, pickle.PicklingError, TypeError, AttributeError):
+    except (pickle.PicklingError, TypeError, AttributeError):
         return False
     return True
 
 
+#: A child started ahead of its request by :func:`warm_up`, or ``None``.
+_spare: Child | None = None
+
+
+def warm_up(path: str | os.PathLike[str]) -> None:
+    """Start a child now for a recording that will probably stream in one.
+
+    The command line calls this first thing, so the child's own start-up (Python,
+    numpy, and pandas for a CSV) overlaps the parent's loading of the build file.
+    The child waits for its request; if none comes it ends when this process does.
+    """
+    global _spare
+    text = os.fspath(path)
+    if _spare is None and _file_wanted(text):
+        _spare = _spawn(preload_csv=text.lower().endswith((".csv", ".txt", ".tsv")))
+
+
+def _discard_spare() -> None:
+    global _spare
+    if _spare is not None:
+        _spare.close()
+        _spare = None
+
+
+atexit.register(_discard_spare)
+
+
+def _spawn(preload_csv: bool) -> Child | None:
+    # the package's own folder first on the child's path, so the child imports
+    # this very copy (an editable checkout as well as an installed one)
+    root = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+    env = dict(os.environ)
+    # the child makes no BLAS calls; idle BLAS threads would only spin
+    env.setdefault("OPENBLAS_NUM_THREADS", "1")
+    env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
+    errfile = tempfile.TemporaryFile()
+    cmd = [sys.executable, "-P", "-m", "clashcheck.identify.worker"]
+    if preload_csv:
+        cmd.append("--csv")
+    try:
+        proc = subprocess.Popen(cmd, stdin=subprocess.PIPE, stdout=subprocess.PIPE,
+                                stderr=errfile, env=env)
+    except OSError:
+        errfile.close()
+        return None
+    return Child(proc, errfile)
+
+
 def start(kind: str, recording: Any, settings: Any) -> Child | None:
-    """Start the child on a request, or return ``None`` if it cannot start.
+    """Hand a request to a child (the spare one if it runs), or return ``None``.
 
     Parameters
     ----------
@@ -85,28 +146,20 @@ def start(kind: str, recording: Any, settings: Any) -> Child | None:
     settings : object
         The analysis settings (must pickle).
     """
+    global _spare
     request = pickle.dumps((kind, recording.path, recording.columns, settings),
                            protocol=pickle.HIGHEST_PROTOCOL)
-    # the package's own folder first on the child's path, so the child imports
-    # this very copy (an editable checkout as well as an installed one)
-    root = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
-    env = dict(os.environ)
-    # the child makes no BLAS calls; idle BLAS threads would only spin
-    env.setdefault("OPENBLAS_NUM_THREADS", "1")
-    env["PYTHONPATH"] = os.pathsep.join(p for p in (root, env.get("PYTHONPATH", "")) if p)
-    errfile = tempfile.TemporaryFile()
+    child, _spare = _spare, None
+    if child is not None and child.proc.poll() is not None:
+        child.close()
+        child = None
+    if child is None:
+        child = _spawn(preload_csv=recording.format == "csv")
+        if child is None:
+            return None
     try:
-        proc = subprocess.Popen(
-            [sys.executable, "-P", "-m", "clashcheck.identify.worker"],
-            stdin=subprocess.PIPE, stdout=subprocess.PIPE, stderr=errfile, env=env,
-        )
-    except OSError:
-        errfile.close()
-        return None
-    child = Child(proc, errfile)
-    try:
-        proc.stdin.write(request)  # type: ignore[union-attr]
-        proc.stdin.close()  # type: ignore[union-attr]
+        child.proc.stdin.write(request)  # type: ignore[union-attr]
+        child.proc.stdin.close()  # type: ignore[union-attr]
     except OSError:
         child.close()
         return None
@@ -193,8 +246,16 @@ def main() -> int:
 
     import traceback
 
+    if "--csv" in sys.argv[1:]:  # a CSV request is likely: load its reader while waiting
+        try:
+            import pandas  # noqa: F401
+        except ImportError:
+            pass
     try:
-        kind, path, columns, settings = pickle.load(sys.stdin.buffer)
+        request = sys.stdin.buffer.read()
+        if not request:  # no request came (the parent ended early)
+            return 0
+        kind, path, columns, settings = pickle.loads(request)
         if kind != "flight":
             raise ValueError(f"unknown pass {kind!r}")
         from ..errors import ClashcheckError
