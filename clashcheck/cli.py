@@ -194,11 +194,11 @@ class _Quantity(click.ParamType):
         return f"'{self.example}'"
 
     def convert(self, value, param, ctx):
+        if isinstance(value, float):  # a default given in SI
+            return value
         from .errors import InputError
         from .units import parse
 
-        if isinstance(value, float):
-            return value
         try:
             return parse(value, self.unit, param.opts[0] if param else "value", example=self.example)
         except InputError as exc:
@@ -389,7 +389,7 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--slots", type=click.IntRange(3, 300), help="Stator slots (cogging order).")
 @click.option("--build", "build_file", type=_PATH, help="Build file: throttle → rotor rate, blades, poles.")
 @click.option("--axes", help="Axis of each signal, e.g. 'roll,pitch,yaw' (the default for 3 signals).")
-@click.option("--min-frequency", type=_Quantity("Hz", "20 Hz"), default="20 Hz", show_default=True)
+@click.option("--min-frequency", type=_Quantity("Hz", "20 Hz"), default=20.0, show_default="20 Hz")
 @click.option("--max-frequency", type=_Quantity("Hz", "1 kHz"), help="Highest mode looked for.")
 @click.option("--resolution", type=_Quantity("Hz", "1 Hz"), help="Frequency resolution of the spectra.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
