@@ -129,3 +129,42 @@ def test_a_child_that_fails_midway_says_so(flight_csv, monkeypatch):
     settings = FlightSettings(rotor_of_throttle=FAILING_CURVE)
     with pytest.raises(RuntimeError, match="the streaming process failed"):
         _analyse(flight_csv, "on", monkeypatch, cols, settings)
+
+
+def test_a_warmed_up_child_takes_the_request(flight_csv, monkeypatch, started):
+    one = _analyse(flight_csv, "off", monkeypatch)
+    monkeypatch.setenv(worker.ENV_SWITCH, "on")
+    worker.warm_up(flight_csv)
+    spare = worker._spare
+    assert spare is not None
+    two = _analyse(flight_csv, "on", monkeypatch)
+    assert worker._spare is None and started == [True] and two == one
+    assert spare.proc.returncode is not None  # waited for once used
+
+
+def test_a_spare_child_without_a_request_ends_cleanly(flight_csv, monkeypatch):
+    monkeypatch.setenv(worker.ENV_SWITCH, "on")
+    worker.warm_up(flight_csv)
+    spare = worker._spare
+    try:
+        spare.proc.stdin.close()  # what the parent's exit does to it
+        assert spare.proc.wait(timeout=60) == 0
+    finally:
+        worker._discard_spare()
+
+
+def test_the_modes_command_gives_the_same_json_through_the_child(flight_csv, monkeypatch, started):
+    from click.testing import CliRunner
+
+    from clashcheck.cli import main
+
+    args = ["modes", str(flight_csv), "--kind", "flight", "--signal", "gx,gy,gz", "--time-column", "t",
+            "--rpm-columns", "rpm", "--blades", "3", "--format", "json", "--quiet"]
+    outputs = []
+    for switch in ("off", "on"):
+        monkeypatch.setenv(worker.ENV_SWITCH, switch)
+        res = CliRunner().invoke(main, args)
+        assert res.exit_code == 0, res.output
+        outputs.append(res.output)
+    assert worker._spare is None and started == [True]
+    assert outputs[1] == outputs[0]
