@@ -22,6 +22,11 @@ moves with throttle), it is an order line and is not reported as a mode.
 
 Damping is the half-power bandwidth of the median spectrum, corrected for the
 Hann window with :func:`~.damping.stationary_model`.
+
+The work is two passes: :func:`stream_flight` (numpy only) reads the recording
+and returns the small per-bin totals, :class:`StreamedFlight`; the peak and
+damping analysis then runs on those (scipy).  For a long recording the first
+pass runs in a second process (:mod:`.worker`).
 """
 
 from __future__ import annotations
