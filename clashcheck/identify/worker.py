@@ -61,8 +61,8 @@ def _switch() -> str:
 def _file_wanted(path: str) -> bool:
     """The checks that need only the file: the switch, its length and the CPUs."""
     switch = _switch()
-    if switch in ("off", "0") or not sys.executable:
-        return False
+    if switch in ("off", "0") or not sys.executable or getattr(sys, "frozen", False):
+        return False  # a frozen program's executable is not a Python to run -m with
     if switch == "on":
         return True
     try:
