@@ -366,31 +366,29 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
         # sum over axes, (seg, freq), up to the highest bin an order line is read at
         top = min(psd.shape[2], int(USABLE_BAND * fs / df) + 2)
         total = psd[:, :, :top].sum(axis=1)
-        c = np.zeros((total.shape[0], total.shape[1] + 1))
-        np.cumsum(total, axis=1, out=c[:, 1:])
         nf = total.shape[1]
-        seg_idx = np.arange(total.shape[0])
+        line_hw = 2.0 * fs / state["nper"]
         for j, k in enumerate(order_arr):
-            fk = k * rotor
             # only segments where the rotor rate held steady: the line then fits in the
             # window's main lobe (2 bins) and the background beside it is clean
-            line_hw = 2.0 * fs / state["nper"]
             smear = k * math.sqrt(3.0) * spread
             hw = line_hw + smear + df
+            fk = k * rotor
             ok = ((fk - 3 * hw > settings.min_frequency_hz * 0.5)
                   & (fk + 3 * hw < USABLE_BAND * fs)
                   & (smear <= np.maximum(line_hw, 0.01 * fk)))
-            if not ok.any():
+            rows = np.flatnonzero(ok)
+            if not rows.size:
                 continue
+            fk, hw = fk[rows], hw[rows]
             lo = np.clip(np.round((fk - hw) / df).astype(int), 0, nf - 1)
             hi = np.clip(np.round((fk + hw) / df).astype(int) + 1, 1, nf)
             blo = np.clip(np.round((fk - 3 * hw) / df).astype(int), 0, nf - 1)
             bhi = np.clip(np.round((fk + 3 * hw) / df).astype(int) + 1, 1, nf)
-            line = c[seg_idx, hi] - c[seg_idx, lo]
-            side = (c[seg_idx, bhi] - c[seg_idx, blo]) - line
+            line, band = _window_sums(total, rows, blo, lo, hi, bhi)
             nside = np.maximum((bhi - blo) - (hi - lo), 1)
-            power = np.maximum(line - side / nside * (hi - lo), 0.0) * df
-            order_samples[j].append(power[ok])
+            power = np.maximum(line - (band - line) / nside * (hi - lo), 0.0) * df
+            order_samples[j].append(power)
 
     for block in recording.blocks():
         for run in cond.feed(block):
@@ -428,6 +426,25 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
     return StreamedFlight(float(state["fs"]), int(state["nper"]), stream.nfft,
                           state["band"], bins.sums, bins.counts, bins.values,  # type: ignore[arg-type]
                           samples, findings, warnings)
+
+
+def _window_sums(total: np.ndarray, rows: np.ndarray, blo: np.ndarray, lo: np.ndarray,
+                 hi: np.ndarray, bhi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Sums of ``total[row, lo:hi]`` and ``total[row, blo:bhi]`` for each selected row.
+
+    The windows are a few dozen bins wide, so only they are gathered: a running
+    sum over the whole spectrum would cost far more (and holds the GIL, which the
+    CSV reader thread needs).
+    """
+    width = bhi - blo
+    offs = np.arange(int(width.max()))
+    idx = blo[:, None] + offs
+    inside = offs < width[:, None]
+    vals = total[rows[:, None], np.minimum(idx, total.shape[1] - 1)]
+    vals[~inside] = 0.0
+    band = vals.sum(axis=1)
+    vals[(idx < lo[:, None]) | (idx >= hi[:, None])] = 0.0
+    return vals.sum(axis=1), band
 
 
 def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,

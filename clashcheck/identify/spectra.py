@@ -235,9 +235,17 @@ class SegmentStream:
         return pad[:, :nseg]
 
     def _aux_means(self, starts: np.ndarray) -> np.ndarray:
-        if not self._aux.shape[1]:
-            return np.zeros((0, starts.size))
-        c = np.vstack([np.zeros((1, self._aux.shape[1])), np.cumsum(self._aux, axis=0)])
+        aux, nseg = self._aux, starts.size
+        if not aux.shape[1]:
+            return np.zeros((0, nseg))
+        r, rest = divmod(self.nperseg, self.hop)
+        if rest == 0:  # a segment is r whole hops: add the hops' sums (no running sum)
+            hops = aux[: (nseg + r - 1) * self.hop].reshape(nseg + r - 1, self.hop, -1).sum(axis=1)
+            sums = hops[:nseg].copy()
+            for i in range(1, r):
+                sums += hops[i:i + nseg]
+            return (sums / self.nperseg).T
+        c = np.vstack([np.zeros((1, aux.shape[1])), np.cumsum(aux, axis=0)])
         return ((c[starts + self.nperseg] - c[starts]) / self.nperseg).T
 
 
