@@ -10,9 +10,9 @@ removed; lithium packs are charged and stored under supervision; local
 aviation rules and licensed practice come first.
 """
 
-from importlib import import_module
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
+from ._lazy import lazy_getattr
 from .errors import ClashcheckError, InputError, OutputError, RecordingError
 
 if TYPE_CHECKING:
@@ -25,12 +25,7 @@ _LAZY = {"Build": "build", "load_build": "build", "load_modes_file": "build",
          "ClashResult": "clash", "check_build": "clash"}
 
 
-def __getattr__(name: str) -> Any:
-    if name in _LAZY:
-        value = getattr(import_module(f".{_LAZY[name]}", __name__), name)
-        globals()[name] = value
-        return value
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+__getattr__ = lazy_getattr(__name__, _LAZY, globals())
 
 __all__ = [
     "Build",

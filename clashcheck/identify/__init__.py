@@ -13,8 +13,9 @@ Tap tests are done with the propellers removed.  Results are design advice.
 
 from __future__ import annotations
 
-from importlib import import_module
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
+
+from .._lazy import lazy_getattr
 
 if TYPE_CHECKING:
     from .flight import FlightSettings, analyse_flight
@@ -32,12 +33,7 @@ _LAZY = {
 }
 
 
-def __getattr__(name: str) -> Any:
-    if name in _LAZY:
-        value = getattr(import_module(f".{_LAZY[name]}", __name__), name)
-        globals()[name] = value
-        return value
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+__getattr__ = lazy_getattr(__name__, _LAZY, globals())
 
 __all__ = [
     "Columns",
