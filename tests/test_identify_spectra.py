@@ -46,7 +46,9 @@ def test_tone_amplitude_from_density():
 @settings(max_examples=15, deadline=None, derandomize=True)
 @given(
     nperseg=st.sampled_from([64, 100, 256]),
-    overlap_frac=st.sampled_from([0.0, 0.5, 0.75]),
+    # 0.3 leaves a hop that does not divide the segment (the running-sum path of the
+    # segment means); the others take the sum-of-hops path
+    overlap_frac=st.sampled_from([0.0, 0.3, 0.5, 0.75]),
     cuts=st.lists(st.integers(1, 900), min_size=1, max_size=6),
 )
 def test_streamed_blocks_equal_one_shot_welch(nperseg, overlap_frac, cuts):
@@ -95,3 +97,14 @@ def test_segment_length_for_resolution():
     assert segment_length(8000.0, 1.0) == 8000
     assert segment_length(1000.0, 3.0) == 334  # ceil(333.3) → 334, even (derived)
     assert 8000.0 / segment_length(8000.0, 0.7) <= 0.7
+
+
+@pytest.mark.parametrize("noverlap", [50, 30, 0])  # hop divides the segment, does not, no overlap
+def test_segment_means_of_the_auxiliary_series_on_both_paths(noverlap):
+    # reference: the plain mean over each segment's rows (derived)
+    aux = np.random.default_rng(7).normal(size=(1000, 2))
+    stream = SegmentStream(500.0, 100, noverlap)
+    (segs,) = list(stream.feed(0, np.zeros((1000, 1)), aux))
+    hop = 100 - noverlap
+    expect = np.array([aux[s:s + 100].mean(axis=0) for s in range(0, 1000 - 100 + 1, hop)]).T
+    np.testing.assert_allclose(segs.aux_mean, expect, rtol=1e-12, atol=1e-15)

@@ -353,7 +353,8 @@ class Conditioner:
         broken = bool(brk.any())
         ok = d[~brk] if broken else d
         if ok.size:
-            n_ok, s_ok, q_ok = ok.size, float(ok.sum()), float(np.einsum("i,i->", ok, ok))  # not BLAS: its idle threads spin
+            # einsum, not np.dot: BLAS's idle threads would spin beside the CSV reader
+            n_ok, s_ok, q_ok = ok.size, float(ok.sum()), float(np.einsum("i,i->", ok, ok))
             self._dt_n += n_ok
             self._dt_sum += s_ok
             self._dt_sq += q_ok
