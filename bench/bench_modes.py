@@ -56,7 +56,13 @@ _RSS = (
 
 def make_recording(minutes: float) -> Path:
     """A synthetic flight CSV (t, gx, gy, gz, throttle) of the given length."""
-    from clashcheck.identify.synth import SynthMode, SynthOrder, flight_blocks, step_throttle, write_flight_csv
+    from clashcheck.identify.synth import (
+        SynthMode,
+        SynthOrder,
+        flight_blocks,
+        step_throttle,
+        write_flight_csv,
+    )
 
     path = DATA / f"flight_{minutes:g}min.csv"
     if path.exists():
@@ -79,8 +85,8 @@ def make_recording(minutes: float) -> Path:
 def _rotor_of_throttle():
     import numpy as np
 
-    from clashcheck.build import load_build
-    from clashcheck.drive import Drive
+    from clashcheck.inputs.buildfile import load_build
+    from clashcheck.model.drive import Drive
 
     drive = Drive.from_build(load_build(BUILD))
     return lambda thr: np.asarray(drive.rotor_hz(np.asarray(thr), "nominal"), dtype=float)

@@ -30,11 +30,16 @@ import numpy as np
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from clashcheck.build import load_build  # noqa: E402
-from clashcheck.clash import check_build  # noqa: E402
-from clashcheck.excitation import fold  # noqa: E402
-from clashcheck.modes import magnification  # noqa: E402
-from clashcheck.pick import candidate_build, pick, score_candidates, search_space  # noqa: E402
+from clashcheck.analysis.clash import check_build  # noqa: E402
+from clashcheck.analysis.pick import (  # noqa: E402
+    candidate_build,
+    pick,
+    score_candidates,
+    search_space,
+)
+from clashcheck.inputs.buildfile import load_build  # noqa: E402
+from clashcheck.model.excitation import fold  # noqa: E402
+from clashcheck.model.modes import magnification  # noqa: E402
 
 
 def _peak_m(x_lo, x_hi, mode, zeta):

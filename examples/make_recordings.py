@@ -43,7 +43,7 @@ AXIS_GAINS = {"roll": (1.0, 0.3, 0.2), "pitch": (0.3, 1.0, 0.2), "yaw": (0.2, 0.
 
 def frame_modes() -> list[tuple[float, float, str]]:
     """(frequency Hz, damping, axis) of the invented catalog frame."""
-    data = tomllib.loads((REPO / "catalogs" / "frames.toml").read_text(encoding="utf-8"))
+    data = tomllib.loads((REPO / "clashcheck" / "catalogs" / "frames.toml").read_text(encoding="utf-8"))
     frame = next(f for f in data["frame"] if f["id"] == FRAME_ID)
     return [(float(m["frequency"].split()[0]), float(m["damping"]), m.get("axis", "any"))
             for m in frame["modes"]]
@@ -52,8 +52,8 @@ def frame_modes() -> list[tuple[float, float, str]]:
 def rotor_of_throttle():
     """The demo build's drive model (nominal pack), or a stand-in if it cannot load."""
     try:
-        from clashcheck.build import load_build
-        from clashcheck.drive import Drive
+        from clashcheck.inputs.buildfile import load_build
+        from clashcheck.model.drive import Drive
 
         drive = Drive.from_build(load_build(BUILD))
         return lambda thr: np.asarray(drive.rotor_hz(np.asarray(thr), "nominal"), dtype=float)

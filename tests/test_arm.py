@@ -1,4 +1,4 @@
-"""Tests of clashcheck.arm (beam estimate of arm modes) and the `arm` command.
+"""Tests of clashcheck.model.arm (beam estimate of arm modes) and the `arm` command.
 
 Reference values come from REFERENCES.md §3 (Blevins table 8-1; Karnovsky &
 Lebed 2004 §7.5.3, table 7.6; the derived steel worked examples), from the
@@ -19,21 +19,22 @@ from click.testing import CliRunner
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from clashcheck import arm
-from clashcheck.arm import (
+from clashcheck.cli import main
+from clashcheck.errors import InputError
+from clashcheck.inputs import armfile
+from clashcheck.inputs.armfile import parse_arm_table
+from clashcheck.model import arm
+from clashcheck.model.arm import (
     ArmGeometry,
     Material,
     beam_frequency_hz,
     estimate_arm,
     estimated_modes,
     frequency_parameters,
-    parse_arm_table,
     rayleigh_frequency_hz,
     tip_mass_equation,
 )
-from clashcheck.arm_report import arm_json, arm_table
-from clashcheck.cli import main
-from clashcheck.errors import InputError
+from clashcheck.report.arm import arm_json, arm_table
 
 # Steel worked example of REFERENCES.md §3: L = 1 m, 10 × 10 mm, E 200 GPa, ρ 7850 kg/m³.
 STEEL = Material("steel", "worked example", 200e9, 200e9, 200e9, 7850.0, 7850.0, 7850.0)
@@ -333,7 +334,7 @@ def test_rigid_clamp_and_point_mass_are_noted():
 
 
 def test_material_catalog_matches_references():
-    cat = arm.materials()
+    cat = armfile.materials()
     assert set(cat) >= {"carbon-qi", "carbon-woven", "al-6061-t6", "al-7075-t6",
                         "glass-laminate", "nylon-moulded", "pc-moulded"}
     qi, woven = cat["carbon-qi"], cat["carbon-woven"]

@@ -1,4 +1,4 @@
-"""Tests of clashcheck.atmosphere: ISA troposphere density."""
+"""Tests of clashcheck.model.atmosphere: ISA troposphere density."""
 
 from __future__ import annotations
 
@@ -7,8 +7,8 @@ import math
 import numpy as np
 import pytest
 
-from clashcheck.atmosphere import geopotential_height_m, isa_density
 from clashcheck.errors import InputError
+from clashcheck.model.atmosphere import geopotential_height_m, isa_density
 
 # REFERENCES.md §6: US Standard Atmosphere 1976 / ISO 2533 troposphere (same formulas)
 R_AIR = 287.05287  # J/(kg·K)

@@ -1,14 +1,14 @@
-"""Tests of clashcheck.battery and the shipped chemistry catalog (REFERENCES.md §7)."""
+"""Tests of clashcheck.model.battery and the shipped chemistry catalog (REFERENCES.md §7)."""
 
 from __future__ import annotations
 
 import pytest
 
-from clashcheck.battery import PACK_STATES, Chemistry, Pack
-from clashcheck.build import parse_build
-from clashcheck.catalog import load_catalog
 from clashcheck.errors import InputError
-from clashcheck.units import parse
+from clashcheck.inputs.buildfile import parse_build
+from clashcheck.inputs.catalog import load_catalog
+from clashcheck.inputs.units import parse
+from clashcheck.model.battery import PACK_STATES, Chemistry, Pack
 
 # REFERENCES.md §7 (common practice; Linden's Handbook of Batteries 4th ed., recalled from memory;
 # IEC 61960 leaves cell voltages to the maker): per-cell full / nominal / empty-under-load voltages

@@ -1,4 +1,4 @@
-"""Tests of clashcheck.build: validation, catalog references, and reading files."""
+"""Tests of clashcheck.inputs.buildfile: validation, catalog references, and reading files."""
 
 from __future__ import annotations
 
@@ -6,11 +6,17 @@ import math
 
 import pytest
 
-from clashcheck.atmosphere import isa_density
-from clashcheck.build import MAX_FILE_BYTES, Flight, load_build, load_modes_file, parse_build
-from clashcheck.catalog import load_catalog
 from clashcheck.errors import InputError
-from clashcheck.units import parse
+from clashcheck.inputs.buildfile import (
+    MAX_FILE_BYTES,
+    load_build,
+    load_modes_file,
+    parse_build,
+)
+from clashcheck.inputs.catalog import load_catalog
+from clashcheck.inputs.units import parse
+from clashcheck.model.atmosphere import isa_density
+from clashcheck.model.build import Flight
 
 
 def _error(data) -> InputError:

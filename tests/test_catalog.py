@@ -8,10 +8,10 @@ import tomllib
 
 import pytest
 
-from clashcheck.build import parse_build
-from clashcheck.catalog import KINDS, catalog_path, entry, load_catalog
 from clashcheck.cli import main
 from clashcheck.errors import InputError
+from clashcheck.inputs.buildfile import parse_build
+from clashcheck.inputs.catalog import KINDS, catalog_path, entry, load_catalog
 
 MOTORS = sorted(load_catalog("motors"))
 PROPS = sorted(load_catalog("props"))

@@ -1,4 +1,4 @@
-"""Tests of clashcheck.clash: exact windows, danger ranges, margins and the verdict.
+"""Tests of clashcheck.analysis.clash: exact windows, danger ranges, margins and the verdict.
 
 The window property tests check the engine against the definitions it implements
 (DESIGN.md physics steps 8–10): a window is the throttle set where an order's
@@ -16,10 +16,7 @@ import pytest
 from hypothesis import assume, event, given, settings
 from hypothesis import strategies as st
 
-from clashcheck.battery import PACK_STATES, Chemistry, Pack
-from clashcheck.build import parse_build
-from clashcheck.catalog import load_catalog
-from clashcheck.clash import (
+from clashcheck.analysis.clash import (
     VERDICTS,
     analyse,
     check_build,
@@ -28,11 +25,14 @@ from clashcheck.clash import (
     operating_bands,
     worse_verdict,
 )
-from clashcheck.drive import Drive
-from clashcheck.excitation import Sensor, build_orders, fold
-from clashcheck.modes import MarginPolicy, Mode, magnification, relative_margin
-from clashcheck.motor import Motor
-from clashcheck.propeller import Propeller
+from clashcheck.inputs.buildfile import parse_build
+from clashcheck.inputs.catalog import load_catalog
+from clashcheck.model.battery import PACK_STATES, Chemistry, Pack
+from clashcheck.model.drive import Drive
+from clashcheck.model.excitation import Sensor, build_orders, fold
+from clashcheck.model.modes import MarginPolicy, Mode, magnification, relative_margin
+from clashcheck.model.motor import Motor
+from clashcheck.model.propeller import Propeller
 
 PROPS = settings(max_examples=80, deadline=None, derandomize=True)
 LIPO = Chemistry("lipo", 4.20, 3.70, 3.50)
@@ -379,8 +379,8 @@ def test_note_when_rotor_rate_peaks_before_max_throttle():
     # derived: with pack sag the steady state d·V = Ke·ω + I·(R_m + N·d²·R_pack)
     # has dω/dd = (V − 2·N·d·R_pack·I)/(...), which turns negative once
     # 2·N·d·R_pack·I exceeds V; a soft pack on a big prop gets there.
-    from clashcheck.build import parse_build
-    from clashcheck.clash import check_build
+    from clashcheck.analysis.clash import check_build
+    from clashcheck.inputs.buildfile import parse_build
 
     data = {
         "frame": {"motors": 4, "mass": "900 g",

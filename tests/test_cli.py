@@ -9,8 +9,8 @@ import time
 
 import pytest
 
-from clashcheck.build import parse_build
 from clashcheck.cli import main
+from clashcheck.inputs.buildfile import parse_build
 
 
 def _assert_input_error(result, *needles):

@@ -1,9 +1,9 @@
-"""Tests for clashcheck.shift and clashcheck.compare.
+"""Tests for clashcheck.model.shift and clashcheck.analysis.compare.
 
 References: the single-degree-of-freedom ratio f ∝ √(k/m_eff), ζ ∝ 1/√(k·m_eff)
 with m_eff = M + 33/140·m (REFERENCES.md §2, §3; derived), the exact
 cantilever-with-tip-mass roots (Karnovsky & Lebed 2004 §7.5.3, REFERENCES.md
-§3, via clashcheck.arm), the hover relation N·C_T·ρ·n²·D⁴ = m·g and the
+§3, via clashcheck.model.arm), the hover relation N·C_T·ρ·n²·D⁴ = m·g and the
 no-load rule ω = Kv·d·V (REFERENCES.md §4–5), and ISA sea-level density
 1.225 kg/m³ (REFERENCES.md §6).
 """
@@ -19,14 +19,20 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from clashcheck.arm import frequency_parameters
-from clashcheck.build import load_build, parse_build
-from clashcheck.clash import check_build
+from clashcheck.analysis.clash import check_build
+from clashcheck.analysis.compare import compare_builds
 from clashcheck.cli import main
-from clashcheck.compare import compare_builds
 from clashcheck.errors import InputError
-from clashcheck.modes import Mode
-from clashcheck.shift import effective_mass_kg, frequency_ratio, shift_mode, shift_modes, swap_shift
+from clashcheck.inputs.buildfile import load_build, parse_build
+from clashcheck.model.arm import frequency_parameters
+from clashcheck.model.modes import Mode
+from clashcheck.model.shift import (
+    effective_mass_kg,
+    frequency_ratio,
+    shift_mode,
+    shift_modes,
+    swap_shift,
+)
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 G = 9.80665            # standard gravity (ISO 80000-3)
@@ -58,7 +64,7 @@ def test_ratio_against_published_tip_mass_roots():
 
 @pytest.mark.parametrize("mu_old, mu_new", [(0.5, 0.8), (1.0, 1.4), (2.0, 3.0), (4.0, 2.5)])
 def test_ratio_against_exact_tip_mass_equation(mu_old, mu_new):
-    # the arm issue's exact frequency equation (Karnovsky & Lebed §7.5.3), solved by clashcheck.arm
+    # the arm issue's exact frequency equation (Karnovsky & Lebed §7.5.3), solved by clashcheck.model.arm
     lam_old = frequency_parameters(mu_old, count=1)[0]
     lam_new = frequency_parameters(mu_new, count=1)[0]
     exact = (lam_new / lam_old) ** 2

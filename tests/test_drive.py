@@ -1,4 +1,4 @@
-"""Tests of clashcheck.drive: the closed-form steady state against scipy's root finder.
+"""Tests of clashcheck.model.drive: the closed-form steady state against scipy's root finder.
 
 The steady state at throttle d (DESIGN.md physics step 5, derived from the DC motor
 equations with a lossless speed controller, REFERENCES.md §4 for Ke = Kt):
@@ -18,17 +18,17 @@ import pytest
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
-from clashcheck.battery import Chemistry, Pack
-from clashcheck.drive import (
+from clashcheck.errors import InputError
+from clashcheck.model.battery import Chemistry, Pack
+from clashcheck.model.drive import (
     STANDARD_GRAVITY,
     Drive,
     hover_rotor_hz,
     rotor_rad_s,
     throttle_at_rad_s,
 )
-from clashcheck.errors import InputError
-from clashcheck.motor import Motor
-from clashcheck.propeller import Propeller
+from clashcheck.model.motor import Motor
+from clashcheck.model.propeller import Propeller
 
 PROPS = settings(max_examples=120, deadline=None, derandomize=True)
 RHO = 1.225

@@ -28,7 +28,7 @@ from clashcheck.cli import main
 
 REPO = Path(__file__).resolve().parent.parent
 EXAMPLES = sorted((REPO / "examples").glob("*.toml"))
-CATALOGS = REPO / "catalogs"
+CATALOGS = REPO / "clashcheck" / "catalogs"
 STATES = ("full", "nominal", "empty")
 
 # Unit factors to SI, written out (NIST SP 811: 1 in = 0.0254 m exactly; 60 rpm = 1 rev/s)

@@ -1,4 +1,4 @@
-"""Tests of clashcheck.excitation: orders, the sensor fold and alias images."""
+"""Tests of clashcheck.model.excitation: orders, the sensor fold and alias images."""
 
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from clashcheck.errors import InputError
-from clashcheck.excitation import (
+from clashcheck.model.excitation import (
     DEFAULT_WEIGHTS,
     FAMILIES,
     Order,
@@ -21,8 +21,8 @@ from clashcheck.excitation import (
     fold,
     nyquist_zone,
 )
-from clashcheck.motor import Motor
-from clashcheck.propeller import Propeller
+from clashcheck.model.motor import Motor
+from clashcheck.model.propeller import Propeller
 
 PROPS = settings(max_examples=80, deadline=None, derandomize=True)
 

@@ -10,7 +10,6 @@ import tomllib
 import pytest
 
 from clashcheck.cli import main
-from clashcheck.identify.output import CAUTIONS, render_toml, to_json_dict
 from clashcheck.identify.result import MeasuredMode, ModesResult, OrderStrength
 from clashcheck.identify.synth import (
     SynthMode,
@@ -21,6 +20,7 @@ from clashcheck.identify.synth import (
     write_flight_csv,
     write_tap_wav,
 )
+from clashcheck.report.modes import CAUTIONS, render_toml, to_json_dict
 
 
 @pytest.fixture(scope="module")
@@ -83,7 +83,7 @@ def test_flight_json_and_modes_file(runner, flight_csv, tmp_path):
 
 
 def test_modes_file_is_read_by_the_build_loader(runner, flight_csv, tmp_path):
-    from clashcheck.build import load_modes_file
+    from clashcheck.inputs.buildfile import load_modes_file
 
     out = tmp_path / "m.toml"
     res = runner.invoke(main, ["modes", str(flight_csv), "--kind", "flight", "--signal", "gx,gy,gz",
@@ -154,7 +154,7 @@ def test_output_never_overwrites_the_recording(runner, tap_wav):
 
 
 def test_progress_bar_only_on_a_terminal(monkeypatch):
-    from clashcheck import cli
+    from clashcheck.cli import modes as cli
 
     assert cli._modes_progress(False, 10_000_000, 3).__enter__() is None  # not a terminal
     monkeypatch.setattr(sys.stderr, "isatty", lambda: True, raising=False)

@@ -14,7 +14,13 @@ import pytest
 from clashcheck.errors import InputError, RecordingError
 from clashcheck.identify import Columns, FlightSettings, analyse_flight, open_recording
 from clashcheck.identify.flight import order_families
-from clashcheck.identify.synth import SynthMode, SynthOrder, flight_blocks, step_throttle, sweep_throttle
+from clashcheck.identify.synth import (
+    SynthMode,
+    SynthOrder,
+    flight_blocks,
+    step_throttle,
+    sweep_throttle,
+)
 
 FS = 4000.0
 COLS = Columns(signals=("gx", "gy", "gz"), time_column="t", rpm_columns=("rpm",))

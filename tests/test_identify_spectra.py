@@ -8,7 +8,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import signal
 
-from clashcheck.identify.spectra import SegmentStream, WelchAverage, segment_length, welch_psd
+from clashcheck.identify.spectra import (
+    SegmentStream,
+    WelchAverage,
+    segment_length,
+    welch_psd,
+)
 
 
 def test_wrapper_matches_scipy_welch():

@@ -13,8 +13,20 @@ import numpy as np
 import pytest
 
 from clashcheck.errors import RecordingError
-from clashcheck.identify import Columns, FlightSettings, analyse_flight, open_recording, worker
-from clashcheck.identify.synth import SynthMode, SynthOrder, flight_blocks, step_throttle, write_flight_csv
+from clashcheck.identify import (
+    Columns,
+    FlightSettings,
+    analyse_flight,
+    open_recording,
+    worker,
+)
+from clashcheck.identify.synth import (
+    SynthMode,
+    SynthOrder,
+    flight_blocks,
+    step_throttle,
+    write_flight_csv,
+)
 
 COLS = Columns(signals=("gx", "gy", "gz"), time_column="t", rpm_columns=("rpm",))
 SETTINGS = FlightSettings(blades=3, poles=14)

@@ -1,4 +1,4 @@
-"""Tests of clashcheck.modes: API separation margins, SDOF response, policies, Mode."""
+"""Tests of clashcheck.model.modes: API separation margins, SDOF response, policies, Mode."""
 
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from clashcheck.errors import InputError
-from clashcheck.modes import (
+from clashcheck.model.modes import (
     MarginPolicy,
     Mode,
     amplification_factor,
@@ -233,7 +233,7 @@ def test_mode_refusals(kwargs, suffix):
 def test_upper_bound_damping_is_used_when_below_the_default():
     # derived: ζ ≤ bound means AF ≥ 1/(2·bound); using the smaller of the
     # default and the bound can only raise the required margin.
-    from clashcheck.modes import MarginPolicy, Mode
+    from clashcheck.model.modes import MarginPolicy, Mode
 
     policy = MarginPolicy("damping", None, 0.03)
     bounded = Mode("narrow", 200.0, None, details={"damping_high": 0.008})

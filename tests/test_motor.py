@@ -1,4 +1,4 @@
-"""Tests of clashcheck.motor: constants and orders, and the §4 worked example."""
+"""Tests of clashcheck.model.motor: constants and orders, and the §4 worked example."""
 
 from __future__ import annotations
 
@@ -8,12 +8,12 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from clashcheck.battery import Chemistry, Pack
-from clashcheck.drive import Drive
 from clashcheck.errors import InputError
-from clashcheck.excitation import build_orders
-from clashcheck.motor import Motor
-from clashcheck.propeller import Propeller
+from clashcheck.model.battery import Chemistry, Pack
+from clashcheck.model.drive import Drive
+from clashcheck.model.excitation import build_orders
+from clashcheck.model.motor import Motor
+from clashcheck.model.propeller import Propeller
 
 FAST = settings(max_examples=60, deadline=None, derandomize=True)
 

@@ -1,4 +1,4 @@
-"""Tests for clashcheck.pick: candidate search, vectorised scoring, ranking.
+"""Tests for clashcheck.analysis.pick: candidate search, vectorised scoring, ranking.
 
 The reference is a plain Python loop in this file: for every candidate it
 builds the candidate with ``dataclasses.replace``, shifts the arm modes with
@@ -11,19 +11,15 @@ vectorised search must agree with it exactly (same flags, same ranking).
 from __future__ import annotations
 
 import math
+import tomllib
 from dataclasses import replace
 
 import numpy as np
 import pytest
 from click.testing import CliRunner
 
-from clashcheck.build import parse_prop, parse_build
-from clashcheck.clash import check_build
-from clashcheck.cli import main
-from clashcheck.errors import InputError
-from clashcheck.excitation import build_orders, fold
-from clashcheck.modes import magnification
-from clashcheck.pick import (
+from clashcheck.analysis.clash import check_build
+from clashcheck.analysis.pick import (
     PropOption,
     SearchSpace,
     candidate_build,
@@ -33,8 +29,11 @@ from clashcheck.pick import (
     score_candidates,
     search_space,
 )
-
-import tomllib
+from clashcheck.cli import main
+from clashcheck.errors import InputError
+from clashcheck.inputs.buildfile import parse_build, parse_prop
+from clashcheck.model.excitation import build_orders, fold
+from clashcheck.model.modes import magnification
 
 # Invented test frame (fixture data, not a reference).  The low-rate 700 Hz
 # sensor has no anti-alias filter, so aliased lines matter (they give the peak

@@ -1,4 +1,4 @@
-"""Tests for clashcheck.plot, the plot command and check --plot.
+"""Tests for clashcheck.report.campbell, the plot command and check --plot.
 
 The expected curves come from the no-load rule f_rotor = Kv·d·V (REFERENCES.md
 §4, derived), the fold f_app = |f − fs·round(f/fs)| (REFERENCES.md §9,
@@ -19,11 +19,11 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 
-from clashcheck.build import parse_build
-from clashcheck.clash import check_build
+from clashcheck.analysis.clash import check_build
 from clashcheck.cli import main
 from clashcheck.errors import InputError, OutputError
-from clashcheck.plot import campbell_data, make_figure, save_campbell
+from clashcheck.inputs.buildfile import parse_build
+from clashcheck.report.campbell import campbell_data, make_figure, save_campbell
 
 pytest.importorskip("matplotlib")
 

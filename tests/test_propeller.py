@@ -1,4 +1,4 @@
-"""Tests of clashcheck.propeller: thrust, power and torque from C_T and C_P."""
+"""Tests of clashcheck.model.propeller: thrust, power and torque from C_T and C_P."""
 
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from clashcheck.errors import InputError
-from clashcheck.propeller import Propeller
+from clashcheck.model.propeller import Propeller
 
 FAST = settings(max_examples=60, deadline=None, derandomize=True)
 

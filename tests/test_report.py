@@ -1,4 +1,4 @@
-"""Tests of clashcheck.report: the JSON contract, the cautions, and safe file output."""
+"""Tests of clashcheck.report.check: the JSON contract, the cautions, and safe file output."""
 
 from __future__ import annotations
 
@@ -8,19 +8,18 @@ import os
 
 import pytest
 
-from clashcheck.build import parse_build
-from clashcheck.clash import check_build
+from clashcheck.analysis.clash import check_build
 from clashcheck.errors import OutputError
-from clashcheck.report import (
-    CAUTIONS,
-    pct,
+from clashcheck.files import write_output
+from clashcheck.inputs.buildfile import parse_build
+from clashcheck.report.check import (
     render,
     render_json,
     render_markdown,
     render_table,
     result_to_dict,
-    write_output,
 )
+from clashcheck.report.common import CAUTIONS, pct
 
 # DESIGN.md interface contract
 TOP_KEYS = {"verdict", "hover", "operating_band", "modes", "orders", "windows"}

@@ -1,4 +1,4 @@
-"""Tests for clashcheck.suggest: each suggestion against a hand computation.
+"""Tests for clashcheck.analysis.suggest: each suggestion against a hand computation.
 
 No-load fixtures (no resistances, no C_P) make the drive exact and linear:
 f_rotor = Kv·d·V (REFERENCES.md §4); hover n = √(m·g/(N·C_T·ρ·D⁴)) (§5,
@@ -13,9 +13,9 @@ import tomllib
 
 import pytest
 
-from clashcheck.build import parse_build
-from clashcheck.clash import check_build
-from clashcheck.suggest import suggest
+from clashcheck.analysis.clash import check_build
+from clashcheck.analysis.suggest import suggest
+from clashcheck.inputs.buildfile import parse_build
 
 SM = 0.15                  # ζ = 0.05 → AF = 10 → 17 %·(1 − 1/8.5) = 15.0 % (REFERENCES.md §1 check value)
 KV = 2000 / 60             # Hz/V

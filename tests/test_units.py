@@ -1,4 +1,4 @@
-"""Tests of clashcheck.units: the value parser at the boundary and rpm ↔ Hz."""
+"""Tests of clashcheck.inputs.units: the value parser at the boundary and rpm ↔ Hz."""
 
 from __future__ import annotations
 
@@ -12,8 +12,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from clashcheck import units
 from clashcheck.errors import MISSING, InputError
+from clashcheck.inputs import units
+from clashcheck.model import rates
 
 FAST = settings(max_examples=60, deadline=None, derandomize=True)
 
@@ -43,15 +44,15 @@ def test_krpm_and_rps():
 @given(st.floats(min_value=-1e9, max_value=1e9, allow_nan=False))
 def test_rpm_hz_round_trip(rpm):
     # derived: hz = rpm / 60, and back
-    hz = units.rpm_to_hz(rpm)
+    hz = rates.rpm_to_hz(rpm)
     assert hz == pytest.approx(rpm / 60.0, rel=1e-15, abs=1e-300)
-    assert units.hz_to_rpm(hz) == pytest.approx(rpm, rel=1e-12, abs=1e-300)
+    assert rates.hz_to_rpm(hz) == pytest.approx(rpm, rel=1e-12, abs=1e-300)
 
 
 def test_rad_s_helpers():
     # derived: ω = 2π f
-    assert float(units.hz_to_rad_s(1.0)) == pytest.approx(2 * math.pi, rel=1e-15)
-    assert float(units.rad_s_to_hz(2 * math.pi * 226.93)) == pytest.approx(226.93, rel=1e-15)
+    assert float(rates.hz_to_rad_s(1.0)) == pytest.approx(2 * math.pi, rel=1e-15)
+    assert float(rates.rad_s_to_hz(2 * math.pi * 226.93)) == pytest.approx(226.93, rel=1e-15)
 
 
 # --- other units against pint itself (reference library) --------------------
@@ -181,7 +182,7 @@ def test_memo_file_lets_a_later_run_skip_pint(tmp_path, repo):
     # DESIGN/issue §9: a later run that meets only known expressions never imports pint
     env_code = (
         "import sys, json\n"
-        "from clashcheck import units\n"
+        "from clashcheck.inputs import units\n"
         "v = units.parse('1950 rpm/V', 'rpm/V', 'motor.kv')\n"
         "print(json.dumps([v, 'pint' in sys.modules]))\n"
     )

@@ -2,7 +2,7 @@
 
 Open a recording with :func:`open_recording`, then analyse it with
 :func:`analyse_tap` or :func:`analyse_flight`; both return a
-:class:`ModesResult`.  :mod:`.output` turns a result into a table, JSON or a
+:class:`ModesResult`.  :mod:`clashcheck.report.modes` turns a result into a table, JSON or a
 ``[[frame.modes]]`` fragment for a build file.
 
 Nothing here imports scipy or pandas at import time; the analysis functions

@@ -39,9 +39,20 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..errors import InputError
-from ..modes import MODE_AXES
-from .checks import USABLE_BAND, Conditioner, Findings, require_duration, require_sample_rate
-from .damping import corrected_half_power, half_power_raw, refine_frequency, stationary_model
+from ..model.modes import MODE_AXES
+from .checks import (
+    USABLE_BAND,
+    Conditioner,
+    Findings,
+    require_duration,
+    require_sample_rate,
+)
+from .damping import (
+    corrected_half_power,
+    half_power_raw,
+    refine_frequency,
+    stationary_model,
+)
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
 from .result import MeasuredMode, ModesResult, OrderStrength

@@ -6,7 +6,7 @@ import math
 from dataclasses import dataclass
 
 from ..errors import InputError
-from ..modes import MODE_AXES
+from ..model.modes import MODE_AXES
 
 __all__ = ["MeasuredMode", "OrderStrength", "ModesResult", "ORDER_FAMILIES", "KINDS"]
 

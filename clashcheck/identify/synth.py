@@ -23,7 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..report import atomic_file
+from ..files import atomic_file
 
 __all__ = [
     "SynthMode",

@@ -27,7 +27,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError, RecordingError
-from ..modes import MODE_AXES
+from ..model.modes import MODE_AXES
 from .checks import USABLE_BAND, Conditioner, require_duration, require_sample_rate
 from .damping import corrected_half_power, sdof_fit, transient_model
 from .peaks import find_modes_peaks, noise_floor
@@ -189,7 +189,6 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
         resolution, or the sample rate is too low for ``max_frequency_hz``.
     """
     from scipy import fft as sfft
-    from scipy import signal
 
     cond = Conditioner(recording)
     runs: list[np.ndarray] = []

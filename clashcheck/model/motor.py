@@ -12,8 +12,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from .errors import InputError
-from .units import TWO_PI
+from ..errors import InputError
+from .rates import TWO_PI
 
 __all__ = ["Motor"]
 

@@ -14,9 +14,10 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 __all__ = [
     "Mode",

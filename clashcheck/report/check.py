@@ -1,71 +1,25 @@
-"""Presentation of check results: table, JSON and Markdown, and safe file output.
+"""Presentation of check results: table, JSON and Markdown.
 
-Nothing here computes physics; it formats :class:`~clashcheck.clash.ClashResult`.
+Nothing here computes physics; it formats :class:`~clashcheck.analysis.clash.ClashResult`.
 JSON keys are part of the interface contract (DESIGN.md): throttles and
 margins are fractions, frequencies end in ``_hz``.
 """
 
 from __future__ import annotations
 
-import json
-import math
-import os
-import tempfile
-from collections.abc import Iterable, Iterator
-from contextlib import contextmanager
-from pathlib import Path
-from typing import Any, BinaryIO
+from collections.abc import Iterable
+from typing import Any
 
-from .clash import ClashResult, ModeResult
-from .errors import OutputError
+from ..analysis.clash import ClashResult, ModeResult
+from .common import CAUTIONS, JSON_SCHEMA_VERSION, dump_json, num, pct
 
 __all__ = [
-    "CAUTIONS",
-    "JSON_SCHEMA_VERSION",
     "result_to_dict",
     "render_json",
     "render_table",
     "render_markdown",
     "render",
-    "write_output",
-    "atomic_file",
-    "check_target",
-    "pct",
-    "dump_json",
-    "render_catalog",
 ]
-
-#: Safety lines printed with results that may lead to hardware work.
-CAUTIONS = (
-    "Bench and tap tests are done with the propellers removed, or in a test rig behind guards.",
-    "Lithium packs: charge and store under supervision.",
-    "Design advice only: it does not replace inspection, test flights in a safe area, "
-    "or the aviation rules and licensed practice that apply locally.",
-)
-
-#: Version of the JSON layout; bumped only when a key changes meaning.
-JSON_SCHEMA_VERSION = 1
-
-
-def pct(x: float | None, digits: int = 0) -> str:
-    """A fraction as a percentage string; ``-`` for ``None`` or ``nan``."""
-    if x is None or (isinstance(x, float) and math.isnan(x)):
-        return "-"
-    if math.isinf(x):
-        return "unreachable"
-    return f"{100 * x:.{digits}f} %"
-
-
-def _num(x: float | None) -> float | None:
-    """JSON-safe float: ``None`` for nan and inf."""
-    if x is None or not math.isfinite(x):
-        return None
-    return float(x)
-
-
-def dump_json(data: Any) -> str:
-    """JSON text with a trailing newline, refusing nan/inf."""
-    return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
 def _mode_dict(mr: ModeResult) -> dict[str, Any]:
@@ -133,15 +87,15 @@ def result_to_dict(result: ClashResult) -> dict[str, Any]:
         "throttle": {"idle": result.idle, "max": result.throttle_max, "cruise": result.cruise},
         "hover": {
             b.pack_state: {
-                "throttle": _num(b.hover.throttle),
-                "rotor_hz": _num(b.hover.rotor_hz),
+                "throttle": num(b.hover.throttle),
+                "rotor_hz": num(b.hover.rotor_hz),
                 "how": b.hover.how,
                 "can_hover": b.hover.can_hover if b.hover.how != "unknown" else None,
             }
             for b in result.bands
         },
         "operating_band": {
-            b.pack_state: {"throttle_low": _num(b.throttle_low), "throttle_high": _num(b.throttle_high)}
+            b.pack_state: {"throttle_low": num(b.throttle_low), "throttle_high": num(b.throttle_high)}
             for b in result.bands
         },
         "rotor_range_hz": {k: {"idle": v[0], "max": v[1]} for k, v in result.rotor_range_hz.items()},
@@ -343,105 +297,3 @@ def render(result: ClashResult, fmt: str) -> str:
     if fmt == "markdown":
         return render_markdown(result)
     return render_table(result)
-
-
-def _same_file(a: Path, b: Path) -> bool:
-    try:
-        return a.resolve() == b.resolve() or (a.exists() and b.exists() and os.path.samefile(a, b))
-    except OSError:
-        return False
-
-
-def check_target(path: str | Path, inputs: Iterable[str | Path] = ()) -> Path:
-    """Refuse an output path that is an input, a folder, or in a missing folder.
-
-    Returns
-    -------
-    Path
-        The folder the file will be written in.
-    """
-    target = Path(path)
-    for inp in inputs:
-        if _same_file(target, Path(inp)):
-            raise OutputError(str(path), "refusing to overwrite an input file")
-    if target.is_dir():
-        raise OutputError(str(path), "is a folder")
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise OutputError(str(path), f"folder {str(folder)!r} does not exist")
-    return folder
-
-
-@contextmanager
-def atomic_file(path: str | Path, inputs: Iterable[str | Path] = ()) -> Iterator[BinaryIO]:
-    """Open ``path`` for writing so that it appears whole or not at all.
-
-    The data goes to a temporary file in the same folder, which replaces the
-    target in one step when the block ends without an error (and is removed
-    otherwise).  The target may not be one of ``inputs``.
-
-    Raises
-    ------
-    OutputError
-        When the path is an input, a folder, or cannot be written.
-    """
-    target = Path(path)
-    folder = check_target(target, inputs)
-    try:
-        fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{target.name}.", suffix=".tmp")
-    except OSError as exc:
-        raise OutputError(str(path), f"cannot write here ({exc.strerror})") from None
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            yield fh
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, target)
-    except OSError as exc:
-        raise OutputError(str(path), f"cannot write ({exc.strerror})") from None
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-
-
-def write_output(path: str | Path, text: str | bytes, inputs: Iterable[str | Path] = ()) -> None:
-    """Write ``text`` to ``path`` atomically, never over one of ``inputs``.
-
-    Raises
-    ------
-    OutputError
-        When the path is an input, a folder, or cannot be written.
-    """
-    with atomic_file(path, inputs) as fh:
-        fh.write(text.encode("utf-8") if isinstance(text, str) else text)
-
-
-_CATALOG_COLUMNS = {
-    "motors": ["stator", "kv", "poles", "slots", "resistance", "no_load_current", "mass"],
-    "props": ["diameter", "pitch", "blades", "thrust_coefficient", "power_coefficient", "mass"],
-    "batteries": ["full", "nominal", "empty", "typical_cell_resistance"],
-    "frames": ["motors", "wheelbase", "modes"],
-    "materials": ["modulus", "density"],
-}
-
-
-def render_catalog(kind: str, entries: dict[str, dict[str, Any]], fmt: str) -> str:
-    """A catalog listing as a table or JSON."""
-    if fmt == "json":
-        return dump_json({"kind": kind, "entries": [{"id": k, **v} for k, v in entries.items()]})
-    from tabulate import tabulate
-
-    columns = _CATALOG_COLUMNS.get(kind, [])
-    rows = []
-    for ident, item in entries.items():
-        row = [ident]
-        for col in columns:
-            value = item.get(col, "")
-            if col == "modes" and isinstance(value, list):
-                value = ", ".join(f"{m.get('name')} {m.get('frequency')}" for m in value)
-            row.append(value)
-        row.append(item.get("description", ""))
-        rows.append(row)
-    head = f"{kind} catalog: generic, typical figures for first estimates, not any maker's data\n\n"
-    return head + tabulate(rows, headers=["id", *columns, "description"], tablefmt="simple") + "\n"

@@ -22,11 +22,11 @@ from functools import cached_property
 
 import numpy as np
 
+from ..errors import InputError
 from .battery import Pack
-from .errors import InputError
 from .motor import Motor
 from .propeller import Propeller
-from .units import TWO_PI
+from .rates import TWO_PI
 
 __all__ = [
     "rotor_rad_s",

@@ -31,7 +31,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 from .modes import Mode
 
 __all__ = [

@@ -10,8 +10,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from .arm import ArmEstimate, ArmGeometry, Material
-from .report import CAUTIONS
+from ..model.arm import ArmEstimate, ArmGeometry, Material
+from .common import CAUTIONS
 
 __all__ = ["CAUTIONS", "arm_table", "arm_json"]
 

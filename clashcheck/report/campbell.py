@@ -28,7 +28,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 __all__ = [
     "FAMILY_COLOURS",
@@ -194,8 +194,8 @@ def campbell_data(build, result=None, *, points: int = 600) -> CampbellData:
     -------
     CampbellData
     """
-    from .clash import check_build
-    from .excitation import fold
+    from ..analysis.clash import check_build
+    from ..model.excitation import fold
 
     if isinstance(points, bool) or not isinstance(points, int) or not 50 <= points <= 20000:
         raise InputError("points", "a whole number from 50 to 20000", points)
@@ -412,7 +412,7 @@ def save_campbell(path, datas, *, inputs=()) -> None:
     OutputError
         When the path cannot be written or is one of ``inputs``.
     """
-    from .report import write_output
+    from ..files import write_output
 
     suffix = Path(path).suffix.lower().lstrip(".")
     if suffix not in PLOT_FORMATS:
@@ -427,6 +427,6 @@ def save_campbell(path, datas, *, inputs=()) -> None:
 
 def _check_target(target: Path, inputs) -> None:
     """Refuse an unwritable target before the (slow) drawing; write_output checks again when writing."""
-    from .report import check_target
+    from ..files import check_target
 
     check_target(target, inputs)

@@ -22,7 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 from .motor import Motor
 from .propeller import Propeller
 
@@ -110,8 +110,8 @@ def build_orders(
 
     Examples
     --------
-    >>> from clashcheck.motor import Motor
-    >>> from clashcheck.propeller import Propeller
+    >>> from clashcheck.model.motor import Motor
+    >>> from clashcheck.model.propeller import Propeller
     >>> [o.order for o in build_orders(Motor(30.0, 14, 12), Propeller(0.127, 3))]
     [1.0, 2.0, 3.0, 6.0, 7.0, 42.0, 84.0]
     """

@@ -13,7 +13,7 @@ import math
 from collections.abc import Iterable, Mapping
 from typing import Any
 
-from .errors import MISSING, InputError
+from ..errors import MISSING, InputError
 from .units import parse
 
 __all__ = [

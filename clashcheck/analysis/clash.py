@@ -25,9 +25,15 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .drive import Drive, Hover
-from .excitation import Order, Sensor, alias_images, fold
-from .modes import MarginPolicy, Mode, amplification_factor, magnification, relative_margin
+from ..model.drive import Drive, Hover
+from ..model.excitation import Order, Sensor, alias_images, fold
+from ..model.modes import (
+    MarginPolicy,
+    Mode,
+    amplification_factor,
+    magnification,
+    relative_margin,
+)
 
 __all__ = [
     "VERDICTS",

@@ -13,7 +13,9 @@ import os
 from pathlib import Path
 from typing import Any
 
-from .report import CAUTIONS, JSON_SCHEMA_VERSION, _num, dump_json, pct, render_markdown, result_to_dict
+from .check import render_markdown, result_to_dict
+from .common import CAUTIONS, JSON_SCHEMA_VERSION, dump_json, pct
+from .common import num as _num
 
 __all__ = [
     "compare_to_dict",
@@ -468,15 +470,15 @@ def report_with_diagram(build, result, fmt: str, plot_path, report_path=None, *,
         When the diagram cannot be written, would overwrite an input, or is
         the report's own path.
     """
-    from .errors import OutputError
-    from .plot import campbell_data, save_campbell
-    from .report import render
+    from ..errors import OutputError
+    from .campbell import campbell_data, save_campbell
+    from .check import render
 
     if report_path is not None and Path(report_path).resolve() == Path(plot_path).resolve():
         raise OutputError(str(plot_path), "the diagram and the report need different files")
     save_campbell(plot_path, [campbell_data(build, result)], inputs=inputs)
     if fmt != "markdown":
         return render(result, fmt)
-    from .suggest import suggest
+    from ..analysis.suggest import suggest
 
     return render_check_report(build, result, suggest(build, result), image_reference(plot_path, report_path))

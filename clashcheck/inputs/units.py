@@ -12,7 +12,8 @@ pint counts the radian as dimensionless, so plain pint converts ``60 rpm`` to
 per minute and ``60 rpm`` is exactly 1 Hz.  A radian stays pint's plain 1 (right
 for a stiffness in N·m/rad), so a radian in a rate field such as ``rad/s`` for a
 rotor rate is refused with a hint rather than read 2π wrong.
-:func:`rpm_to_hz` and friends are the only rpm ↔ Hz conversions in the code.
+Inside the code, rotation rates are kept in Hz (``*_hz``) and
+:mod:`clashcheck.model.rates` holds ``TWO_PI`` for the drive model's rad/s.
 
 Speed
 -----
@@ -35,24 +36,15 @@ from functools import cache
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-
-from .errors import MISSING, InputError
+from ..errors import MISSING, InputError
 
 __all__ = [
     "parse",
     "parse_optional",
     "conversion",
     "registry",
-    "rpm_to_hz",
-    "hz_to_rpm",
-    "rad_s_to_hz",
-    "hz_to_rad_s",
     "to_unit",
-    "TWO_PI",
 ]
-
-TWO_PI = 2.0 * math.pi
 
 # A value string: a plain decimal number, optionally followed by a unit
 # expression made of names, '*', '/', '^' or '**' with a one-digit exponent,
@@ -98,37 +90,6 @@ _memo: dict[str, tuple[float, str]] = {}
 _memo_loaded = False
 _memo_dirty = False
 
-
-def rpm_to_hz(rpm: Any) -> Any:
-    """Revolutions per minute to revolutions per second (Hz).
-
-    Examples
-    --------
-    >>> rpm_to_hz(60.0)
-    1.0
-    """
-    return np.asarray(rpm, dtype=float) / 60.0 if np.ndim(rpm) else float(rpm) / 60.0
-
-
-def hz_to_rpm(hz: Any) -> Any:
-    """Revolutions per second (Hz) to revolutions per minute.
-
-    Examples
-    --------
-    >>> hz_to_rpm(1.0)
-    60.0
-    """
-    return np.asarray(hz, dtype=float) * 60.0 if np.ndim(hz) else float(hz) * 60.0
-
-
-def rad_s_to_hz(omega_rad_s: Any) -> Any:
-    """Angular speed in rad/s to revolutions per second (Hz)."""
-    return np.asarray(omega_rad_s, dtype=float) / TWO_PI
-
-
-def hz_to_rad_s(freq_hz: Any) -> Any:
-    """Revolutions per second (Hz) to angular speed in rad/s."""
-    return np.asarray(freq_hz, dtype=float) * TWO_PI
 
 
 @cache

@@ -11,8 +11,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import InputError
-from .units import TWO_PI
+from ..errors import InputError
+from .rates import TWO_PI
 
 __all__ = ["Propeller"]
 

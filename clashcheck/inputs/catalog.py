@@ -1,7 +1,7 @@
 """Shipped catalogs: generic, typical motors, propellers, chemistries, frames, materials.
 
-The TOML files live in the repository's ``catalogs/`` folder, which installs
-as the package ``clashcheck.catalogs``, so an installed copy finds them from
+The TOML files live in ``clashcheck/catalogs/`` (package data), so an
+installed copy finds them from
 any working directory.  Entries are raw tables in the build-file form (values
 are strings with units); :mod:`clashcheck.build` validates them like any
 other input.
@@ -14,7 +14,7 @@ from functools import cache
 from pathlib import Path
 from typing import Any
 
-from .errors import InputError
+from ..errors import InputError
 
 __all__ = ["KINDS", "load_catalog", "entry", "catalog_path"]
 
@@ -32,16 +32,7 @@ def catalog_path(kind: str) -> Path:
     """Path of a catalog file, installed or in a source checkout."""
     if kind not in KINDS:
         raise InputError("catalog", "one of " + ", ".join(KINDS), kind)
-    name = f"{kind}.toml"
-    try:
-        from importlib.resources import files
-
-        path = Path(str(files("clashcheck.catalogs").joinpath(name)))
-        if path.is_file():
-            return path
-    except (ModuleNotFoundError, TypeError):
-        pass
-    return Path(__file__).resolve().parent.parent / "catalogs" / name
+    return Path(__file__).resolve().parent.parent / "catalogs" / f"{kind}.toml"
 
 
 @cache

@@ -13,8 +13,8 @@ import json
 import math
 from typing import Any
 
-from ..report import CAUTIONS
-from .result import ModesResult
+from ..identify.result import ModesResult
+from .common import CAUTIONS
 
 __all__ = ["to_json_dict", "render_json", "render_table", "render_toml", "CAUTIONS"]
 

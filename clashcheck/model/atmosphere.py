@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 
-from .errors import InputError
+from ..errors import InputError
 
 __all__ = ["isa_density", "geopotential_height_m", "EARTH_RADIUS_M"]
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from .errors import InputError
+from ..errors import InputError
 
 __all__ = ["PACK_STATES", "Chemistry", "Pack"]
 

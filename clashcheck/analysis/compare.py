@@ -23,9 +23,9 @@ from collections.abc import Iterable
 from dataclasses import dataclass, field, replace
 from typing import Any
 
+from ..model.drive import Hover
+from ..model.shift import MassShift, swap_shift
 from .clash import VERDICTS, ClashResult, check_build
-from .drive import Hover
-from .shift import MassShift, swap_shift
 
 __all__ = [
     "FAIL_LEVELS",
@@ -139,7 +139,7 @@ class CompareResult:
         band as well.  At ``never``: never.
         """
         if level not in FAIL_LEVELS:
-            from .errors import InputError
+            from ..errors import InputError
 
             raise InputError("--fail-on", "one of " + ", ".join(FAIL_LEVELS), level)
         if level == "never":

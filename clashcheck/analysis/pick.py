@@ -47,15 +47,15 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from ..errors import InputError
+from ..model.drive import hover_rotor_hz, rotor_rad_s, throttle_at_rad_s
+from ..model.excitation import build_orders
+from ..model.modes import magnification
+from ..model.motor import Motor
+from ..model.propeller import Propeller
+from ..model.rates import TWO_PI
+from ..model.shift import RAYLEIGH_SHARE, shift_modes, tip_masses
 from .clash import MAX_ALIAS_MULTIPLE, ClashResult, check_build
-from .drive import hover_rotor_hz, rotor_rad_s, throttle_at_rad_s
-from .errors import InputError
-from .excitation import build_orders
-from .modes import magnification
-from .motor import Motor
-from .propeller import Propeller
-from .shift import RAYLEIGH_SHARE, shift_modes, tip_masses
-from .units import TWO_PI
 
 __all__ = [
     "PIN_NAMES",
@@ -213,8 +213,8 @@ def catalog_motors(
     poles : int, optional
         Keep motors with this pole count (pinned poles).
     """
-    from .build import parse_motor
-    from .catalog import load_catalog
+    from ..inputs.buildfile import parse_motor
+    from ..inputs.catalog import load_catalog
 
     wanted = {str(s) for s in stators}
     out = []
@@ -240,8 +240,8 @@ def catalog_props(
     max_diameter_m: float | None = None,
 ) -> tuple[PropOption, ...]:
     """Catalog propellers: the ``ids`` given, or all within a diameter range [m]."""
-    from .build import parse_prop
-    from .catalog import entry, load_catalog
+    from ..inputs.buildfile import parse_prop
+    from ..inputs.catalog import entry, load_catalog
 
     if ids:
         for ident in ids:

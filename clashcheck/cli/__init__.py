@@ -1,0 +1,67 @@
+"""The command line: thin click commands over the library.
+
+Each command parses its options, calls one library function, formats the
+result with :mod:`clashcheck.report` and echoes it.  Library errors become one
+line on stderr and exit code 2 in :class:`_Group.invoke`, never a traceback.
+This is the only module that imports click.
+"""
+
+from __future__ import annotations
+
+import click
+
+from ..errors import ClashcheckError
+from ._common import EXIT_INPUT
+
+__all__ = ["main"]
+
+
+
+class _InputFailure(click.ClickException):
+    exit_code = EXIT_INPUT
+
+    def show(self, file=None) -> None:  # one line, no usage block
+        click.echo(f"clashcheck: error: {self.format_message()}", err=True)
+
+
+class _Group(click.Group):
+    def invoke(self, ctx: click.Context):
+        try:
+            return super().invoke(ctx)
+        except click.exceptions.NoArgsIsHelpError:
+            raise
+        except click.UsageError as exc:  # one line, not the usage block
+            where = exc.ctx.command_path if exc.ctx is not None else "clashcheck"
+            raise _InputFailure(f"{exc.format_message()} (see '{where} --help')") from None
+        except ClashcheckError as exc:
+            raise _InputFailure(str(exc)) from None
+        except UnicodeDecodeError as exc:
+            raise _InputFailure(f"input is not UTF-8 text: {exc.reason}") from None
+        except OSError as exc:
+            name = exc.filename if exc.filename is not None else "file"
+            raise _InputFailure(f"{name}: {exc.strerror or exc}") from None
+
+
+@click.group(cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(package_name="clashcheck")
+def main() -> None:
+    """Find where motor and propeller excitation meets the frame's modes.
+
+    Results are design advice. Bench and tap tests are done with the
+    propellers removed; lithium packs are charged and stored under
+    supervision; local aviation rules and licensed practice come first.
+    """
+
+
+
+
+def _register() -> None:
+    """Add each command module's commands to the group (one line per module)."""
+    from . import arm, check, decide, modes
+
+    for module in (check, arm, decide, modes):
+        for command in module.COMMANDS:
+            main.add_command(command)
+
+
+_register()

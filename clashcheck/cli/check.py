@@ -1,0 +1,106 @@
+"""The check, catalog and plot: one build against its frame's modes."""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import click
+
+from ._common import (
+    EXIT_FAIL,
+    EXIT_OK,
+    FAIL_LEVELS,
+    FORMATS,
+    PATH,
+)
+
+
+@click.command()
+@click.argument("build_file", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--format", "fmt", type=FORMATS, default="table", show_default=True, help="Output format.")
+@click.option(
+    "--fail-on",
+    type=click.Choice(list(FAIL_LEVELS)),
+    default="clash",
+    show_default=True,
+    help="Exit 1 when the verdict reaches this level.",
+)
+@click.option(
+    "--modes",
+    "modes_file",
+    type=click.Path(dir_okay=False, path_type=Path),
+    help="Measured modes (from 'clashcheck modes --output') to merge into the build.",
+)
+@click.option("--output", "-o", type=click.Path(path_type=Path), help="Write the report here (atomically).")
+@click.option("--plot", "plot_file", type=click.Path(dir_okay=False, path_type=Path),
+              help="Also draw the Campbell diagram here (.png, .svg, .pdf; needs the [plot] extra). "
+                   "With --format markdown the report embeds it and adds computed suggestions.")
+def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, output: Path | None,
+          plot_file: Path | None = None) -> None:
+    """Find the throttle ranges where excitation meets a frame mode.
+
+    Exit codes: 0 nothing reaches the --fail-on level, 1 something does,
+    2 bad input.
+    """
+    from ..analysis.clash import check_build
+    from ..files import write_output
+    from ..inputs.buildfile import load_build, load_modes_file
+    from ..report.check import render
+
+    build = load_build(build_file)
+    if modes_file is not None:
+        build = build.with_measured(load_modes_file(modes_file))
+    result = check_build(build)
+    text = render(result, fmt)
+    if plot_file is not None:  # matplotlib and scipy are imported only on this path
+        from ..report.decide import report_with_diagram
+
+        text = report_with_diagram(build, result, fmt, plot_file, output,
+                                   inputs=[p for p in (build_file, modes_file) if p is not None])
+    if output is not None:
+        write_output(output, text, inputs=[p for p in (build_file, modes_file) if p is not None])
+    else:
+        click.echo(text, nl=False)
+    sys.exit(EXIT_FAIL if result.verdict in FAIL_LEVELS[fail_on] else EXIT_OK)
+
+
+@click.command()
+@click.argument("kind", type=click.Choice(["motors", "props", "batteries", "frames", "materials"]), default="motors")
+@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
+def catalog(kind: str, fmt: str) -> None:
+    """List the shipped catalog entries of one kind (generic, typical figures)."""
+    from ..inputs.catalog import load_catalog
+    from ..report.catalog import render_catalog
+
+    click.echo(render_catalog(kind, load_catalog(kind), fmt), nl=False)
+
+
+@click.command("plot")
+@click.argument("build_file", type=PATH)
+@click.option("--output", "-o", type=PATH, required=True, help="The diagram: .png, .svg or .pdf.")
+@click.option("--modes", "modes_file", type=PATH, help="Measured modes to merge into the build.")
+def plot_command(build_file: Path, output: Path, modes_file: Path | None) -> None:
+    """Draw the Campbell diagram: excitation frequency against throttle, with the frame modes.
+
+    Needs the [plot] extra (matplotlib).
+    """
+    from ..analysis.clash import check_build
+    from ..inputs.buildfile import load_build, load_modes_file
+    from ..report.campbell import campbell_data, save_campbell
+
+    build = load_build(build_file)
+    if modes_file is not None:
+        build = build.with_measured(load_modes_file(modes_file))
+    result = check_build(build)
+    save_campbell(output, [campbell_data(build, result)], inputs=[p for p in (build_file, modes_file) if p])
+    click.echo(f"wrote {output}: {result.name}, verdict {result.verdict}")
+
+
+# --- frame modes from recordings: the modes command (issue 3) -----------------
+
+
+
+
+#: The commands this module adds to the group.
+COMMANDS = (check, catalog, plot_command)

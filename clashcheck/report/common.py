@@ -1,0 +1,41 @@
+"""What every report shares: the cautions, the JSON schema version, number formatting."""
+
+from __future__ import annotations
+
+import json
+import math
+from typing import Any
+
+__all__ = ["CAUTIONS", "JSON_SCHEMA_VERSION", "pct", "dump_json", "num"]
+
+#: Safety lines printed with results that may lead to hardware work.
+CAUTIONS = (
+    "Bench and tap tests are done with the propellers removed, or in a test rig behind guards.",
+    "Lithium packs: charge and store under supervision.",
+    "Design advice only: it does not replace inspection, test flights in a safe area, "
+    "or the aviation rules and licensed practice that apply locally.",
+)
+
+#: Version of the JSON layout; bumped only when a key changes meaning.
+JSON_SCHEMA_VERSION = 1
+
+
+def pct(x: float | None, digits: int = 0) -> str:
+    """A fraction as a percentage string; ``-`` for ``None`` or ``nan``."""
+    if x is None or (isinstance(x, float) and math.isnan(x)):
+        return "-"
+    if math.isinf(x):
+        return "unreachable"
+    return f"{100 * x:.{digits}f} %"
+
+
+def num(x: float | None) -> float | None:
+    """JSON-safe float: ``None`` for nan and inf."""
+    if x is None or not math.isfinite(x):
+        return None
+    return float(x)
+
+
+def dump_json(data: Any) -> str:
+    """JSON text with a trailing newline, refusing nan/inf."""
+    return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
