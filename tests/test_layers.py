@@ -21,6 +21,7 @@ LAYERS = {
     "inputs": 2,
     "identify": 3,
     "analysis": 4,
+    "fleet": 4.5,
     "report": 5,
     "cli": 6, "__main__": 6,
 }
