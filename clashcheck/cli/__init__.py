@@ -10,11 +10,22 @@ from __future__ import annotations
 
 import click
 
-from ..errors import ClashcheckError
+from ..errors import ClashcheckError, InputError
 from ._common import EXIT_INPUT
 
 __all__ = ["main"]
 
+#: Library field names and the command-line flag that sets each, from every
+#: command module's ``FIELD_FLAGS``.  A library error names its own field
+#: (``min_frequency_hz``); the user is told the flag (``--min-frequency``).
+FIELD_FLAGS: dict[str, str] = {}
+
+
+def _as_flags(exc: ClashcheckError) -> ClashcheckError:
+    """``exc`` with its library field replaced by the flag that sets it, if any."""
+    if isinstance(exc, InputError) and exc.field in FIELD_FLAGS:
+        return InputError(FIELD_FLAGS[exc.field], exc.expected, exc.got, exc.hint)
+    return exc
 
 
 class _InputFailure(click.ClickException):
@@ -34,7 +45,7 @@ class _Group(click.Group):
             where = exc.ctx.command_path if exc.ctx is not None else "clashcheck"
             raise _InputFailure(f"{exc.format_message()} (see '{where} --help')") from None
         except ClashcheckError as exc:
-            raise _InputFailure(str(exc)) from None
+            raise _InputFailure(str(_as_flags(exc))) from None
         except UnicodeDecodeError as exc:
             raise _InputFailure(f"input is not UTF-8 text: {exc.reason}") from None
         except OSError as exc:
@@ -53,15 +64,14 @@ def main() -> None:
     """
 
 
-
-
 def _register() -> None:
-    """Add each command module's commands to the group (one line per module)."""
+    """Add each command module's commands and flag names to the group (one line per module)."""
     from . import arm, check, decide, modes
 
     for module in (check, arm, decide, modes):
         for command in module.COMMANDS:
             main.add_command(command)
+        FIELD_FLAGS.update(getattr(module, "FIELD_FLAGS", {}))
 
 
 _register()
