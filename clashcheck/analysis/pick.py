@@ -48,6 +48,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from ..errors import InputError
+from ..model.build import Build
 from ..model.drive import hover_rotor_hz, rotor_rad_s, throttle_at_rad_s
 from ..model.excitation import build_orders
 from ..model.modes import magnification
@@ -136,19 +137,19 @@ class SearchSpace:
     def __post_init__(self) -> None:
         for name, axis in (("motors", self.motors), ("props", self.props), ("cells", self.cells)):
             if not axis:
-                raise InputError(f"pick {name}", "at least one candidate (an empty candidate set)", [])
+                raise InputError(name, "at least one candidate (an empty candidate set)", [])
         for n in self.cells:
             if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= 24:
-                raise InputError("pick --cells", "cell counts from 1 to 24", n)
+                raise InputError("cells", "cell counts from 1 to 24", n)
         for p in self.poles:
             if isinstance(p, bool) or not isinstance(p, int) or p < 2 or p % 2:
-                raise InputError("pick --poles", "even pole counts of 2 or more", p)
+                raise InputError("poles", "even pole counts of 2 or more", p)
         low, high = self.hover_range
         if not (0.0 <= low < high <= 1.0):
-            raise InputError("pick --hover-range", "a low hover throttle below the high one, within 0 %–100 %",
+            raise InputError("hover_range", "a low hover throttle below the high one, within 0 %–100 %",
                              f"{100 * low:g} %–{100 * high:g} %")
         if self.cell_mass_kg is not None and not (math.isfinite(self.cell_mass_kg) and self.cell_mass_kg > 0):
-            raise InputError("pick --cell-mass", "a cell mass above 0 g", self.cell_mass_kg)
+            raise InputError("cell_mass_kg", "a cell mass above 0 g", self.cell_mass_kg)
 
     @property
     def shape(self) -> tuple[int, int, int, int]:
@@ -186,7 +187,7 @@ def kv_variant(motor: Motor, kv_hz_per_v: float) -> Motor:
     0.075111
     """
     if not (math.isfinite(kv_hz_per_v) and kv_hz_per_v > 0):
-        raise InputError("pick --kv", "a Kv above 0 rpm/V", kv_hz_per_v)
+        raise InputError("kv_hz_per_v", "a Kv above 0 rpm/V", kv_hz_per_v)
     scale = (motor.kv_hz_per_v / kv_hz_per_v) ** 2
     return replace(motor, kv_hz_per_v=kv_hz_per_v, resistance_ohm=motor.resistance_ohm * scale)
 
@@ -245,7 +246,7 @@ def catalog_props(
 
     if ids:
         for ident in ids:
-            entry("props", ident, "pick --props")  # a clear error with a "did you mean" hint
+            entry("props", ident, "props")  # a clear error with a "did you mean" hint
         chosen = list(dict.fromkeys(ids))
     else:
         chosen = list(load_catalog("props"))
@@ -320,12 +321,12 @@ def search_space(
     pins = tuple(dict.fromkeys(pins))
     for p in pins:
         if p not in PIN_NAMES:
-            raise InputError("pick --pin", "one of " + ", ".join(PIN_NAMES), p)
+            raise InputError("pins", "one of " + ", ".join(PIN_NAMES), p)
     catalog_wanted = motors == "catalog" or bool(stators) or max_motor_mass_kg is not None
     if props is None and max_prop_diameter_m is not None:
         props = "catalog"
     if motors not in (None, "catalog"):
-        raise InputError("pick --motors", "'catalog'", motors)
+        raise InputError("motors", "'catalog'", motors)
     searched = {
         "motor": catalog_wanted or kv_range is not None or bool(poles),
         "kv": catalog_wanted or kv_range is not None,
@@ -335,13 +336,13 @@ def search_space(
     }
     for p in pins:
         if searched[p]:
-            what = {"motor": "motor options (--motors, --stator, --max-motor-mass, --kv-*, --poles)",
-                    "kv": "a Kv search (--motors, --stator, --max-motor-mass, --kv-*)",
-                    "poles": "--poles", "prop": "--props or --max-prop-diameter", "cells": "--cells"}[p]
-            raise InputError("pick --pin", f"a pin on a part that is not also searched ({what})", p,
+            what = {"motor": "motors, stators, max_motor_mass_kg, kv_range or poles",
+                    "kv": "motors, stators, max_motor_mass_kg or kv_range",
+                    "poles": "poles", "prop": "props or max_prop_diameter_m", "cells": "cells"}[p]
+            raise InputError("pins", f"a pin on a part that is not also searched ({what})", p,
                              "contradictory pins: drop the pin or the search option")
     if catalog_wanted and kv_range is not None:
-        raise InputError("pick --kv-from", "either catalog motors or a Kv sweep, not both", "both",
+        raise InputError("kv_range", "either catalog motors or a Kv sweep, not both", "both",
                          "contradictory options")
     notes: list[str] = []
     any_search = any(searched.values())
@@ -352,8 +353,8 @@ def search_space(
         if "prop" not in pins:
             props = "catalog"
         if not catalog_wanted and props is None:
-            raise InputError("pick", "something left to search", "every part pinned",
-                             "give --motors, --kv-from/--kv-to, --poles, --props or --cells")
+            raise InputError("pins", "something left to search", "every part pinned",
+                             "search motors, a Kv range, poles, props or cells")
         notes.append("no search option given: catalog motors and catalog propellers that fit are searched")
 
     base = MotorOption("build motor", build.motor, "build")
@@ -364,7 +365,7 @@ def search_space(
             min_mass, max_motor_mass_kg = (k * build.motor.mass_kg for k in _MOTOR_MASS_WINDOW)
             notes.append(
                 f"catalog motors from {1e3 * min_mass:.1f} g to {1e3 * max_motor_mass_kg:.1f} g "
-                "(half to twice the build motor's mass; --stator or --max-motor-mass to change)"
+                "(half to twice the build motor's mass, unless stators or a largest motor mass are given)"
             )
         motor_axis = catalog_motors(
             stators, max_motor_mass_kg,
@@ -373,19 +374,19 @@ def search_space(
             min_mass_kg=min_mass,
         )
         if not motor_axis:
-            raise InputError("pick motors", "at least one catalog motor after the filters (an empty candidate set)",
-                             "none", "loosen --stator, --max-motor-mass or the pins")
+            raise InputError("motors", "at least one catalog motor after the filters (an empty candidate set)",
+                             "none", "loosen the stator, motor-mass or pin filters")
         notes.append(f"{len(motor_axis)} catalog motor(s)")
     elif kv_range is not None:
         low, high, step = kv_range
         if not (math.isfinite(low) and math.isfinite(high) and math.isfinite(step)) or step <= 0 or low <= 0:
-            raise InputError("pick --kv-step", "a Kv range above 0 rpm/V with a step above 0", kv_range)
+            raise InputError("kv_range", "a Kv range above 0 rpm/V with a step above 0", kv_range)
         if high < low:
-            raise InputError("pick --kv-to", "a Kv at or above --kv-from (an empty candidate set)",
+            raise InputError("kv_range", "a high Kv at or above the low one (an empty candidate set)",
                              f"{60 * high:g} rpm/V < {60 * low:g} rpm/V")
         count = int(math.floor((high - low) / step * (1 + 1e-12))) + 1
         if count > 1_000_000:
-            raise InputError("pick --kv-step", "at most 1000000 Kv values", count)
+            raise InputError("kv_range", "at most 1000000 Kv values", count)
         kvs = low + step * np.arange(count)
         motor_axis = tuple(MotorOption(f"Kv {60 * kv:.0f} rpm/V", kv_variant(build.motor, float(kv)), "kv sweep")
                            for kv in kvs)
@@ -405,15 +406,16 @@ def search_space(
         else:
             prop_axis = catalog_props(list(props), None, max_prop_diameter_m)
         if not prop_axis:
-            raise InputError("pick props", "at least one propeller that fits (an empty candidate set)", "none",
-                             "raise --max-prop-diameter or name props with --props")
+            raise InputError("props", "at least one propeller that fits (an empty candidate set)", "none",
+                             "raise the largest diameter or name the props")
     cell_axis = tuple(int(c) for c in dict.fromkeys(cells)) if cells else (build.pack.cells,)
     pole_axis = tuple(int(p) for p in dict.fromkeys(poles))
     if pins:
         notes.append("pinned: " + ", ".join(pins))
     if cells and cell_mass_kg is None:
-        notes.append("the all-up mass is held when the cell count changes (no --cell-mass given)")
-    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, tuple(hover_range), cell_mass_kg, tuple(notes))
+        notes.append("the all-up mass is held when the cell count changes (no cell mass given)")
+    low_high = (float(hover_range[0]), float(hover_range[1]))
+    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, low_high, cell_mass_kg, tuple(notes))
 
 
 # ---------------------------------------------------------------------------
@@ -848,7 +850,7 @@ class Pick:
     #: Short label of its parts.
     label: str
     #: The candidate as a build (modes shifted, mass adjusted).
-    build: object
+    build: Build
     #: The full check of that build.
     result: ClashResult
     #: Hovers at every pack state.
@@ -873,8 +875,6 @@ class Pick:
     hover: dict[str, float]
     #: Clash windows touching the band.
     clash_count: int
-    #: Reasons for the place in the ranking, one phrase each.
-    reasons: tuple[str, ...]
 
 
 @dataclass(frozen=True)
@@ -897,6 +897,13 @@ class PickResult:
     scores: Scores = field(repr=False)
     #: Notes, one sentence each.
     notes: tuple[str, ...] = ()
+    #: Labels of top candidates whose full check disagrees with the vectorised "band clear" flag.
+    disagreements: tuple[str, ...] = ()
+
+    @property
+    def best(self) -> Pick | None:
+        """The top-ranked candidate, or ``None`` when nothing was returned."""
+        return self.top[0] if self.top else None
 
 
 def _describe(build, space, scores, index):
@@ -907,31 +914,6 @@ def _describe(build, space, scores, index):
     s2, m2, k2, _z2 = (int(x) for x in scores.margin_at[index])
     return label, (build.modes[m].name, orders[k].label, scores.pack_states[s], z > 0), (
         build.modes[m2].name, orders[k2].label, scores.pack_states[s2])
-
-
-def _reasons(p: dict, hover_range) -> tuple[str, ...]:
-    out = []
-    if not p["flies"]:
-        states = [s for s, h in p["hover"].items() if not (math.isfinite(h) and h <= 1.0)]
-        out.append("cannot hover at the " + ", ".join(states) + " pack")
-    elif p["band_clear"]:
-        out.append("operating band clear at every pack state")
-    else:
-        out.append(f"{p['clash_count']} clash window(s) touch the operating band")
-    known = [h for h in p["hover"].values() if math.isfinite(h)]
-    if known:
-        span = f"{100 * min(known):.0f}–{100 * max(known):.0f} %"
-        inside = "within" if p["hover_in_range"] else "outside"
-        out.append(f"hover {span}, {inside} {100 * hover_range[0]:.0f}–{100 * hover_range[1]:.0f} %")
-    else:
-        out.append("hover unknown (no C_T): band taken from idle")
-    if math.isfinite(p["response"]):
-        out.append(
-            f"peak weighted response {p['response']:.2f} ({p['response_order']}"
-            f"{' aliased' if p['response_aliased'] else ''} near {p['response_mode']}, {p['response_state']} pack)"
-        )
-        out.append(f"worst margin {100 * p['worst_margin']:.1f} % ({p['margin_order']} to {p['margin_mode']})")
-    return tuple(out)
 
 
 def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
@@ -949,15 +931,16 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
     Returns
     -------
     PickResult
-        The top candidates, each with a full :func:`~clashcheck.clash.check_build`
-        of it.  A note is added should the full check ever disagree with the
+        The top candidates, each with a full :func:`~clashcheck.analysis.clash.check_build`
+        of it; ``disagreements`` names any whose full check disagrees with the
         vectorised "band clear" flag.
     """
     if isinstance(top, bool) or not isinstance(top, int) or not 1 <= top <= 100:
-        raise InputError("pick --top", "a whole number from 1 to 100", top)
+        raise InputError("top", "a whole number from 1 to 100", top)
     scores = score_candidates(build, space)
     order = rank(scores)
     picks = []
+    disagree: list[str] = []
     notes = list(space.notes)
     for place, index in enumerate(order[:top], start=1):
         index = int(index)
@@ -978,9 +961,8 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
             "clash_count": int(scores.clash_count[index]),
         }
         if (result.verdict == "clash") == bool(scores.band_clear[index]):
-            notes.append(f"candidate {label}: the full check ({result.verdict}) disagrees with the search")
-        picks.append(Pick(rank=place, index=index, label=label, build=cand, result=result,
-                          reasons=_reasons(fields, space.hover_range), **fields))
+            disagree.append(label)
+        picks.append(Pick(rank=place, index=index, label=label, build=cand, result=result, **fields))
     if any(m.kind == "arm" for m in build.modes):
         ratio = scores.mode_ratio
         if np.any(ratio != 1.0):
@@ -998,4 +980,4 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
         )
     clear = int(np.sum(scores.band_clear & scores.flies))
     return PickResult(build.name, space.size, clear, tuple(picks), space.hover_range, space, scores,
-                      tuple(notes))
+                      tuple(notes), tuple(disagree))

@@ -44,7 +44,7 @@ _TOP_KEYS = ("name", "description", "frame", "motor", "prop", "battery", "sensor
 _FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description")
 _MODE_KEYS = (
     "name", "frequency", "damping", "axis", "kind", "source",
-    "damping_low", "damping_high", "confidence", "method",
+    "damping_low", "damping_high", "confidence", "method", "frequency_low", "frequency_high",
 )
 _MOTOR_KEYS = ("catalog", "kv", "poles", "slots", "resistance", "no_load_current", "mass", "stator", "description")
 _PROP_KEYS = (
@@ -111,6 +111,14 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
         maximum=1e5, range_text="above 0 Hz and up to 100 kHz",
     )
     assert freq is not None
+    spread = {}
+    for key in ("frequency_low", "frequency_high"):  # an estimate's plausible range (written by pick)
+        spread[key] = f.quantity(raw, key, where, "Hz", "200 Hz", minimum=0.0, exclusive_minimum=True,
+                                 maximum=1e5, range_text="above 0 Hz and up to 100 kHz")
+    low, high = spread["frequency_low"], spread["frequency_high"]
+    if (low is not None and low > freq) or (high is not None and high < freq):
+        raise InputError(f"{where}.frequency_low", "frequency_low ≤ frequency ≤ frequency_high",
+                         f"{low} / {freq} / {high} Hz")
     damping = f.ratio(raw, "damping", where, low=0.0, high=1.0, what="a damping ratio")
     details: dict[str, object] = {}
     for key in ("damping_low", "damping_high"):
@@ -132,6 +140,8 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
         kind=f.choice(raw, "kind", where, MODE_KINDS, default="other") or "other",
         origin=origin,
         source=f.text(raw, "source", where, default="") or "",
+        frequency_low_hz=low,
+        frequency_high_hz=high,
         details=details,
     )
 
@@ -224,19 +234,21 @@ def _parse_battery(raw: dict[str, Any]) -> Pack:
     chem_id = f.text(raw, "chemistry", where, default="lipo")
     base = entry("batteries", chem_id, "battery.chemistry")
     f.check_keys(base, _CHEMISTRY_KEYS, f"batteries[{chem_id}]")
-    volts = {}
+    volts: dict[str, float] = {}
     for state in PACK_STATES:
         own_key = f"cell_{state}"
         src, key, at = (raw, own_key, where) if own_key in raw else (base, state, f"batteries[{chem_id}]")
-        volts[state] = f.quantity(src, key, at, "V", "3.7 V", required=True, minimum=0.5, maximum=10.0,
-                                  range_text="from 0.5 V to 10 V")
+        volt = f.quantity(src, key, at, "V", "3.7 V", required=True, minimum=0.5, maximum=10.0,
+                          range_text="from 0.5 V to 10 V")
+        assert volt is not None
+        volts[state] = volt
     if not volts["empty"] < volts["nominal"] < volts["full"]:
         raise InputError("battery", "cell voltages with empty < nominal < full",
                          f"{volts['empty']:g} / {volts['nominal']:g} / {volts['full']:g} V")
     resistance = f.quantity(raw, "cell_resistance", where, "ohm", "3 mohm", default=0.0, minimum=0.0,
                             maximum=10.0, range_text="from 0 ohm to 10 ohm")
     assert cells is not None and chem_id is not None
-    chemistry = Chemistry(chem_id, volts["full"], volts["nominal"], volts["empty"],  # type: ignore[arg-type]
+    chemistry = Chemistry(chem_id, volts["full"], volts["nominal"], volts["empty"],
                           str(base.get("source", "")))
     return Pack(cells, chemistry, resistance or 0.0)
 
