@@ -317,3 +317,121 @@ def test_cli_compare_bad_output(tmp_path):
         assert res.stderr.startswith("clashcheck: error:") and "Traceback" not in res.output
     res = runner.invoke(main, ["compare", a, str(tmp_path / "nope.toml")])
     assert res.exit_code == 2
+
+
+# --- all-up mass: compare as pick ------------------------------------------------------
+
+
+def _swap_with_mass(mass_kg: float):
+    b = load_build(EXAMPLES / "freestyle-5in-swap.toml")
+    return replace(b, mass_kg=mass_kg)
+
+
+def test_same_stated_mass_gets_the_part_change_like_pick():
+    from clashcheck.analysis.pick import MotorOption, PropOption, SearchSpace, candidate_build
+
+    a = load_build(EXAMPLES / "freestyle-5in.toml")
+    b = _swap_with_mass(a.mass_kg)            # B copied A's mass while swapping to heavier motors
+    cmp = compare_builds(a, b)
+    # 4 × ((motor + prop) of B − (motor + prop) of A) (derived)
+    change = 4 * (b.motor.mass_kg + b.prop.mass_kg - a.motor.mass_kg - a.prop.mass_kg)
+    assert cmp.mass.rule == "parts" and cmp.mass.reason == "same-mass-parts-differ"
+    assert cmp.build_b.mass_kg == pytest.approx(a.mass_kg + change, rel=1e-12)
+    # pick, given exactly B's parts for A's frame, scores the same mass and the same shifted modes
+    space = SearchSpace((MotorOption("b", b.motor, "catalog"),), (PropOption("b", b.prop, "catalog"),),
+                        (b.pack.cells,))
+    cand = candidate_build(a, space, 0)
+    assert cand.mass_kg == pytest.approx(cmp.build_b.mass_kg, rel=1e-12)
+    assert [m.frequency_hz for m in cand.modes] == pytest.approx([m.frequency_hz for m in cmp.build_b.modes])
+    assert check_build(cand).verdict == cmp.b.verdict
+
+
+def test_own_stated_mass_is_kept_and_the_rule_can_be_forced():
+    a = load_build(EXAMPLES / "freestyle-5in.toml")
+    b = _swap_with_mass(0.75)
+    auto = compare_builds(a, b)
+    assert auto.mass.rule == "stated" and auto.mass.reason == "b-states-own-mass"
+    assert auto.build_b.mass_kg == 0.75
+    forced = compare_builds(a, b, mass="parts")
+    assert forced.build_b.mass_kg == pytest.approx(a.mass_kg + forced.mass.parts_change_kg, rel=1e-12)
+    same = compare_builds(a, _swap_with_mass(a.mass_kg), mass="stated")
+    assert same.build_b.mass_kg == a.mass_kg and same.mass.reason == "asked"
+    with pytest.raises(InputError, match="mass"):
+        compare_builds(a, b, mass="guess")
+
+
+def test_unknown_part_mass_keeps_the_stated_mass():
+    a = _build(PAIR.format(name="A", mass="600 g"))
+    b = _build(PAIR.format(name="B", mass="600 g"))
+    cmp = compare_builds(a, b)
+    assert cmp.mass.rule == "stated" and cmp.mass.reason == "part-mass-unknown"
+    assert math.isnan(cmp.mass.parts_change_kg)
+
+
+# --- a clash that gets much worse --------------------------------------------------------
+
+
+def _mass_for_hover_hz(n_hz: float) -> float:
+    # N·C_T·ρ·n²·D⁴ = m·g (REFERENCES.md §5)
+    return 4 * 0.12 * RHO0 * n_hz**2 * 0.127**4 / G
+
+
+def _magnification(r: float, zeta: float) -> float:
+    # Rao, Mechanical Vibrations 5th ed. §3.4
+    return 1 / math.sqrt((1 - r * r) ** 2 + (2 * zeta * r) ** 2)
+
+
+def test_a_clash_that_deepens_is_reported_and_worse():
+    # hover 1× at 9.8 % below the 200 Hz plate in A and 0.1 % below it in B: both clash (15 % asked)
+    a = _build(PAIR.format(name="A", mass=f"{_mass_for_hover_hz(200 * (1 - 0.098))!r} kg"))
+    b = _build(PAIR.format(name="B", mass=f"{_mass_for_hover_hz(200 * (1 - 0.001))!r} kg"))
+    cmp = compare_builds(a, b)
+    assert cmp.a.verdict == cmp.b.verdict == "clash"
+    assert not cmp.appeared and not cmp.verdict_changes
+    deep = {(d.point, d.pack_state): d for d in cmp.deepened}
+    assert set(deep) == {("hover", s) for s in ("full", "nominal", "empty")}
+    d = deep[("hover", "empty")]
+    assert d.margin_a == pytest.approx(0.098, abs=1e-6) and d.margin_b == pytest.approx(0.001, abs=1e-6)
+    # ζ = 0.05: M(0.902) ≈ 4.83, M(0.999) ≈ 10.0, a ratio above 2 (+6 dB) (derived)
+    assert d.magnification_a == pytest.approx(_magnification(0.902, 0.05), rel=1e-5)
+    assert d.magnification_b == pytest.approx(_magnification(0.999, 0.05), rel=1e-5)
+    assert cmp.worse_at("clash") and cmp.worse_at("watch")
+    # a small step within the clash (9.8 % → 8 %) is not "much worse"
+    c = _build(PAIR.format(name="C", mass=f"{_mass_for_hover_hz(200 * (1 - 0.08))!r} kg"))
+    small = compare_builds(a, c)
+    assert small.deepened == () and not small.worse_at("clash")
+    from clashcheck.report.decide import compare_to_dict, render_compare
+
+    data = compare_to_dict(cmp)
+    assert {(x["point"], x["pack_state"]) for x in data["changes"]["clashes_deepened"]} == set(deep)
+    assert "clashes that get much worse in B: plate at hover" in render_compare(cmp, "table")
+
+
+def test_margin_rows_once_and_ranges_per_pack_state():
+    from clashcheck.report.decide import render_compare
+
+    a = _build(PAIR.format(name="A", mass="600 g"))
+    b = _build(PAIR.format(name="B", mass="900 g"))
+    cmp = compare_builds(a, b)
+    text = render_compare(cmp, "table")
+    block = text.split("Margins at hover")[1].split("Changes")[0]
+    # a computed hover has one rotor rate at every pack state: one row, marked "all"
+    rows = [line for line in block.splitlines() if line.startswith("plate")]
+    assert len(rows) == 1 and " all " in rows[0]
+    # per pack state: the danger ranges of each state are kept apart
+    assert set(cmp.ranges_a["plate"]) == {"full", "nominal", "empty"}
+    for state, ranges in cmp.ranges_a["plate"].items():
+        assert all(state in r.pack_states for r in ranges)
+
+
+def test_cli_compare_names_the_bad_file(tmp_path):
+    runner = CliRunner()
+    a = EXAMPLES / "freestyle-5in.toml"
+    bad = tmp_path / "b.toml"
+    bad.write_text(a.read_text(encoding="utf-8").replace('[battery]\n', '[battery]\nbogus = 1\n', 1),
+                   encoding="utf-8")
+    res = runner.invoke(main, ["compare", str(a), str(bad)])
+    assert res.exit_code == 2 and "Traceback" not in res.output
+    assert str(bad) in res.stderr and "battery" in res.stderr and len(res.stderr.strip().splitlines()) == 1
+    res = runner.invoke(main, ["compare", str(a), str(a), "--mass", "guess"])
+    assert res.exit_code == 2

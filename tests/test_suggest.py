@@ -186,3 +186,39 @@ def test_suggestions_follow_the_numbers():
     assert a.value != b.value and suggestion_text(a) != suggestion_text(b)
     assert f"{60 * a.value:.0f} rpm/V" in suggestion_text(a)
     assert b.value == pytest.approx(320.0 * (1 - SM) / (0.6 * V_FULL) * (1 - 1e-3), rel=1e-6)
+
+
+def test_cli_suggestions_in_every_format_without_matplotlib(tmp_path):
+    import json
+    import subprocess
+    import sys
+
+    path = tmp_path / "s.toml"
+    path.write_text(TEMPLATE.format(mode_hz=300.0, kind="plate"), encoding="utf-8")
+    code = (
+        "import sys, json\n"
+        "from click.testing import CliRunner\n"
+        "from clashcheck.cli import main\n"
+        f"r = CliRunner().invoke(main, ['check', {str(path)!r}, '--suggest', '--format', 'json'])\n"
+        "data = json.loads(r.stdout)\n"
+        "print(json.dumps({'exit': r.exit_code, 'n': len(data['suggestions']), "
+        "'mpl': 'matplotlib' in sys.modules}))\n"
+    )
+    out = json.loads(subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                                    check=True).stdout)
+    assert out == {"exit": 1, "n": out["n"], "mpl": False} and out["n"] >= 3
+    from click.testing import CliRunner
+
+    from clashcheck.cli import main
+
+    runner = CliRunner()
+    data = json.loads(runner.invoke(main, ["check", str(path), "--suggest", "--format", "json"]).stdout)
+    kinds = {s["kind"]: s for s in data["suggestions"]}
+    assert kinds["kv"]["unit"] == "hz_per_v" and kinds["kv"]["status"] == "fix"
+    assert data["schema_version"] and "verdict" in data
+    table = runner.invoke(main, ["check", str(path), "--suggest"]).stdout
+    assert "Suggestions (each checked in full):" in table and "checked: fix" in table
+    md = runner.invoke(main, ["check", str(path), "--suggest", "--format", "markdown"]).stdout
+    assert "## Suggestions" in md and "rpm/V" in md
+    # without --suggest the check stays as it was
+    assert "Suggestions" not in runner.invoke(main, ["check", str(path)]).stdout
