@@ -61,6 +61,8 @@ from .clash import MAX_ALIAS_MULTIPLE, ClashResult, check_build
 __all__ = [
     "PIN_NAMES",
     "DEFAULT_HOVER_RANGE",
+    "NOTE_KINDS",
+    "SearchNote",
     "MotorOption",
     "PropOption",
     "SearchSpace",
@@ -89,6 +91,23 @@ _PROP_DIAMETER_SHARE = 0.8
 _MOTOR_MASS_WINDOW = (0.5, 2.0)
 #: Kv of catalog motors matching a pinned Kv, relative [fraction].
 _KV_PIN_TOLERANCE = 0.02
+
+
+#: Kinds of :class:`SearchNote`.
+NOTE_KINDS = ("default-search", "motor-mass-window", "catalog-motors", "kv-sweep", "prop-diameters", "pinned",
+              "mass-held-with-cells", "arm-shift", "arm-not-shifted", "stated-hover-dropped")
+
+
+@dataclass(frozen=True)
+class SearchNote:
+    """One fact about what was searched or assumed (worded by :mod:`clashcheck.report.decide`)."""
+
+    #: One of :data:`NOTE_KINDS`.
+    kind: str
+    #: Figures, SI, keys with unit suffixes (``min_kg``, ``low_hz_per_v``, ``hover`` as a fraction...).
+    figures: dict[str, float] = field(default_factory=dict)
+    #: Names it concerns (pins; ``frame.arm`` when the arm mass comes from there).
+    names: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -131,8 +150,8 @@ class SearchSpace:
     hover_range: tuple[float, float] = DEFAULT_HOVER_RANGE
     #: Mass of one cell [kg], to adjust the all-up mass with the cell count; ``None`` holds it.
     cell_mass_kg: float | None = None
-    #: What was searched and assumed, one sentence each.
-    notes: tuple[str, ...] = ()
+    #: What was searched and assumed.
+    notes: tuple[SearchNote, ...] = ()
 
     def __post_init__(self) -> None:
         for name, axis in (("motors", self.motors), ("props", self.props), ("cells", self.cells)):
@@ -344,7 +363,7 @@ def search_space(
     if catalog_wanted and kv_range is not None:
         raise InputError("kv_range", "either catalog motors or a Kv sweep, not both", "both",
                          "contradictory options")
-    notes: list[str] = []
+    notes: list[SearchNote] = []
     any_search = any(searched.values())
     if not any_search:
         # the default search: catalog motors and fitting catalog props, minus pins
@@ -355,7 +374,7 @@ def search_space(
         if not catalog_wanted and props is None:
             raise InputError("pins", "something left to search", "every part pinned",
                              "search motors, a Kv range, poles, props or cells")
-        notes.append("no search option given: catalog motors and catalog propellers that fit are searched")
+        notes.append(SearchNote("default-search"))
 
     base = MotorOption("build motor", build.motor, "build")
     motor_axis: tuple[MotorOption, ...] = (base,)
@@ -363,10 +382,7 @@ def search_space(
         min_mass = None
         if not stators and max_motor_mass_kg is None and build.motor.mass_kg is not None:
             min_mass, max_motor_mass_kg = (k * build.motor.mass_kg for k in _MOTOR_MASS_WINDOW)
-            notes.append(
-                f"catalog motors from {1e3 * min_mass:.1f} g to {1e3 * max_motor_mass_kg:.1f} g "
-                "(half to twice the build motor's mass, unless stators or a largest motor mass are given)"
-            )
+            notes.append(SearchNote("motor-mass-window", {"min_kg": min_mass, "max_kg": max_motor_mass_kg}))
         motor_axis = catalog_motors(
             stators, max_motor_mass_kg,
             kv_near_hz_per_v=build.motor.kv_hz_per_v if "kv" in pins else None,
@@ -376,7 +392,7 @@ def search_space(
         if not motor_axis:
             raise InputError("motors", "at least one catalog motor after the filters (an empty candidate set)",
                              "none", "loosen the stator, motor-mass or pin filters")
-        notes.append(f"{len(motor_axis)} catalog motor(s)")
+        notes.append(SearchNote("catalog-motors", {"count": float(len(motor_axis))}))
     elif kv_range is not None:
         low, high, step = kv_range
         if not (math.isfinite(low) and math.isfinite(high) and math.isfinite(step)) or step <= 0 or low <= 0:
@@ -390,19 +406,15 @@ def search_space(
         kvs = low + step * np.arange(count)
         motor_axis = tuple(MotorOption(f"Kv {60 * kv:.0f} rpm/V", kv_variant(build.motor, float(kv)), "kv sweep")
                            for kv in kvs)
-        notes.append(
-            f"Kv swept from {60 * low:g} to {60 * kvs[-1]:g} rpm/V in steps of {60 * step:g} on the build's motor: "
-            "winding resistance scaled as (Kv₀/Kv)², no-load current and mass held"
-        )
+        notes.append(SearchNote("kv-sweep", {"low_hz_per_v": float(low), "high_hz_per_v": float(kvs[-1]),
+                                             "step_hz_per_v": float(step)}))
     prop_axis: tuple[PropOption, ...] = (PropOption("build prop", build.prop, "build"),)
     if props is not None:
         top = max_prop_diameter_m if max_prop_diameter_m is not None else build.prop.diameter_m
         if props == "catalog":
             prop_axis = catalog_props(None, _PROP_DIAMETER_SHARE * build.prop.diameter_m, top)
-            notes.append(
-                f"catalog propellers from {_PROP_DIAMETER_SHARE * build.prop.diameter_m / 0.0254:.2f} in "
-                f"to {top / 0.0254:.2f} in"
-            )
+            notes.append(SearchNote("prop-diameters", {"min_m": _PROP_DIAMETER_SHARE * build.prop.diameter_m,
+                                                       "max_m": float(top)}))
         else:
             prop_axis = catalog_props(list(props), None, max_prop_diameter_m)
         if not prop_axis:
@@ -411,9 +423,9 @@ def search_space(
     cell_axis = tuple(int(c) for c in dict.fromkeys(cells)) if cells else (build.pack.cells,)
     pole_axis = tuple(int(p) for p in dict.fromkeys(poles))
     if pins:
-        notes.append("pinned: " + ", ".join(pins))
+        notes.append(SearchNote("pinned", names=tuple(pins)))
     if cells and cell_mass_kg is None:
-        notes.append("the all-up mass is held when the cell count changes (no cell mass given)")
+        notes.append(SearchNote("mass-held-with-cells"))
     low_high = (float(hover_range[0]), float(hover_range[1]))
     return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, low_high, cell_mass_kg, tuple(notes))
 
@@ -895,8 +907,8 @@ class PickResult:
     space: SearchSpace
     #: The scores of every candidate.
     scores: Scores = field(repr=False)
-    #: Notes, one sentence each.
-    notes: tuple[str, ...] = ()
+    #: What was searched and assumed.
+    notes: tuple[SearchNote, ...] = ()
     #: Labels of top candidates whose full check disagrees with the vectorised "band clear" flag.
     disagreements: tuple[str, ...] = ()
 
@@ -941,7 +953,7 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
     order = rank(scores)
     picks = []
     disagree: list[str] = []
-    notes = list(space.notes)
+    notes: list[SearchNote] = list(space.notes)
     for place, index in enumerate(order[:top], start=1):
         index = int(index)
         cand = candidate_build(build, space, index)
@@ -966,18 +978,12 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
     if any(m.kind == "arm" for m in build.modes):
         ratio = scores.mode_ratio
         if np.any(ratio != 1.0):
-            notes.append(
-                f"arm modes move with each candidate's tip mass (×{np.min(ratio):.3f} to ×{np.max(ratio):.3f}); "
-                + ("arm mass from [frame.arm]" if build.arm is not None else
-                   "no [frame.arm]: m_eff = tip mass (motor + propeller)")
-            )
+            notes.append(SearchNote("arm-shift", {"min_ratio": float(np.min(ratio)), "max_ratio": float(np.max(ratio))},
+                                    ("frame.arm",) if build.arm is not None else ()))
         elif build.motor.mass_kg is None or build.prop.mass_kg is None:
-            notes.append("arm modes not shifted: the build's motor or propeller mass is not known")
+            notes.append(SearchNote("arm-not-shifted"))
     if build.flight.hover is not None:
-        notes.append(
-            f"the stated hover ({100 * build.flight.hover:.0f} %) belongs to the build's own parts: candidates "
-            "whose propeller has a C_T get a computed hover instead"
-        )
+        notes.append(SearchNote("stated-hover-dropped", {"hover": build.flight.hover}))
     clear = int(np.sum(scores.band_clear & scores.flies))
     return PickResult(build.name, space.size, clear, tuple(picks), space.hover_range, space, scores,
                       tuple(notes), tuple(disagree))

@@ -26,6 +26,7 @@ __all__ = [
     "compare_to_dict",
     "render_compare",
     "pick_reasons",
+    "search_note_text",
     "pick_to_dict",
     "render_pick",
     "suggestion_text",
@@ -466,9 +467,46 @@ def _pick_dict(p, hover_range) -> dict[str, Any]:
     }
 
 
+def search_note_text(note) -> str:
+    """The sentence for one :class:`~clashcheck.analysis.pick.SearchNote`.
+
+    Parameters
+    ----------
+    note : SearchNote
+        What was searched or assumed.
+
+    Returns
+    -------
+    str
+    """
+    f = note.figures
+    texts = {
+        "default-search": lambda: "no search option given: catalog motors and catalog propellers that fit are searched",
+        "motor-mass-window": lambda: (f"catalog motors from {1e3 * f['min_kg']:.1f} g to {1e3 * f['max_kg']:.1f} g "
+                                      "(half to twice the build motor's mass; --stator or --max-motor-mass to "
+                                      "change)"),
+        "catalog-motors": lambda: f"{f['count']:.0f} catalog motor(s)",
+        "kv-sweep": lambda: (f"Kv swept from {60 * f['low_hz_per_v']:g} to {60 * f['high_hz_per_v']:g} rpm/V in "
+                             f"steps of {60 * f['step_hz_per_v']:g} on the build's motor: winding resistance scaled "
+                             "as (Kv₀/Kv)², no-load current and mass held"),
+        "prop-diameters": lambda: (f"catalog propellers from {f['min_m'] / 0.0254:.2f} in to "
+                                   f"{f['max_m'] / 0.0254:.2f} in"),
+        "pinned": lambda: "pinned: " + ", ".join(note.names),
+        "mass-held-with-cells": lambda: "the all-up mass is held when the cell count changes (no --cell-mass given)",
+        "arm-shift": lambda: (f"arm modes move with each candidate's tip mass (×{f['min_ratio']:.3f} to "
+                              f"×{f['max_ratio']:.3f}); " + ("arm mass from [frame.arm]" if note.names else
+                                                             "no [frame.arm]: m_eff = tip mass (motor + propeller)")),
+        "arm-not-shifted": lambda: "arm modes not shifted: the build's motor or propeller mass is not known",
+        "stated-hover-dropped": lambda: (f"the stated hover ({100 * f['hover']:.0f} %) belongs to the build's own "
+                                         "parts: candidates whose propeller has a C_T get a computed hover instead"),
+    }
+    make = texts.get(note.kind)
+    return make() if make is not None else note.kind
+
+
 def _pick_notes(res) -> list[str]:
-    return list(res.notes) + [f"candidate {label}: the full check disagrees with the search"
-                              for label in res.disagreements]
+    return [search_note_text(n) for n in res.notes] + [
+        f"candidate {label}: the full check disagrees with the search" for label in res.disagreements]
 
 
 def pick_to_dict(res) -> dict[str, Any]:
