@@ -19,7 +19,22 @@ _CATALOG_COLUMNS = {
 
 
 def render_catalog(kind: str, entries: dict[str, dict[str, Any]], fmt: str) -> str:
-    """A catalog listing as a table or JSON."""
+    """A catalog listing as a table or JSON.
+
+    Parameters
+    ----------
+    kind : str
+        Catalog kind, e.g. ``motors``.
+    entries : dict of str to dict
+        The raw catalog entries by id.
+    fmt : str
+        ``table`` or ``json``.
+
+    Returns
+    -------
+    str
+        The rendered catalog.
+    """
     if fmt == "json":
         return dump_json({"kind": kind, "entries": [{"id": k, **v} for k, v in entries.items()]})
     from tabulate import tabulate

@@ -21,7 +21,20 @@ JSON_SCHEMA_VERSION = 1
 
 
 def pct(x: float | None, digits: int = 0) -> str:
-    """A fraction as a percentage string; ``-`` for ``None`` or ``nan``."""
+    """A fraction as a percentage string; ``-`` for ``None`` or ``nan``.
+
+    Parameters
+    ----------
+    x : float or None
+        A fraction.
+    digits : int, optional
+        Decimal places.
+
+    Returns
+    -------
+    str
+        For example ``'27 %'``.
+    """
     if x is None or (isinstance(x, float) and math.isnan(x)):
         return "-"
     if math.isinf(x):
@@ -30,12 +43,34 @@ def pct(x: float | None, digits: int = 0) -> str:
 
 
 def num(x: float | None) -> float | None:
-    """JSON-safe float: ``None`` for nan and inf."""
+    """JSON-safe float: ``None`` for nan and inf.
+
+    Parameters
+    ----------
+    x : float or None
+        A number.
+
+    Returns
+    -------
+    float or None
+        ``x``, or ``None`` when it is missing or not finite (JSON has no nan).
+    """
     if x is None or not math.isfinite(x):
         return None
     return float(x)
 
 
 def dump_json(data: Any) -> str:
-    """JSON text with a trailing newline, refusing nan/inf."""
+    """JSON text with a trailing newline, refusing nan/inf.
+
+    Parameters
+    ----------
+    data : object
+        JSON-ready data (dicts, lists, numbers, strings).
+
+    Returns
+    -------
+    str
+        Indented JSON text ending in a newline.
+    """
     return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
