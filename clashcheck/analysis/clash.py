@@ -25,7 +25,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..model.drive import Drive, Hover
+from ..model.drive import Drive, Hover, throttle_at_rad_s
 from ..model.excitation import Order, Sensor, alias_images, fold
 from ..model.modes import (
     MarginPolicy,
@@ -34,9 +34,13 @@ from ..model.modes import (
     magnification,
     relative_margin,
 )
+from ..model.rates import TWO_PI
+from .levels import FAIL_LEVELS, VERDICTS, worse_verdict
+from .windows import MAX_ALIAS_MULTIPLE, above_floor, interval_margin, margin_band, seen_weight, throttle_window
 
 __all__ = [
     "VERDICTS",
+    "FAIL_LEVELS",
     "Window",
     "DangerRange",
     "MarginAt",
@@ -50,19 +54,6 @@ __all__ = [
     "worse_verdict",
     "check_build",
 ]
-
-#: Verdicts from best to worst.
-VERDICTS = ("clear", "watch", "clash")
-
-#: Alias images are sought up to this many sample rates above the true band;
-#: beyond it the search would grow without bound for absurd inputs.
-MAX_ALIAS_MULTIPLE = 32
-
-
-def worse_verdict(a: str, b: str) -> str:
-    """The worse of two verdicts."""
-    return a if VERDICTS.index(a) >= VERDICTS.index(b) else b
-
 
 @dataclass(frozen=True)
 class OperatingBand:
@@ -278,12 +269,7 @@ def _apparent_range(f_lo: float, f_hi: float, sensor: Sensor | None) -> list[tup
 def _min_margin(intervals: list[tuple[float, float]], mode: Mode) -> float:
     lo, hi = mode.frequency_low_hz, mode.frequency_high_hz
     assert lo is not None and hi is not None
-    best = math.inf
-    for a, b in intervals:
-        if b >= lo and a <= hi:
-            return 0.0
-        best = min(best, (lo - b) / lo if b < lo else (a - hi) / hi)
-    return best
+    return min((float(interval_margin(a, b, lo, hi)) for a, b in intervals), default=math.inf)
 
 
 def find_windows(
@@ -325,8 +311,7 @@ def find_windows(
     zeta, _ = policy.damping_of(mode)
     af = amplification_factor(zeta)
     assert mode.frequency_low_hz is not None and mode.frequency_high_hz is not None
-    band_lo_hz = mode.frequency_low_hz * (1.0 - sm)
-    band_hi_hz = mode.frequency_high_hz * (1.0 + sm)
+    band_lo_hz, band_hi_hz = margin_band(mode.frequency_low_hz, mode.frequency_high_hz, sm)
     if band_hi_hz <= band_lo_hz:
         return []
     n = order.order
@@ -345,12 +330,11 @@ def find_windows(
 
     hover = band.hover
     hover_known = not math.isnan(hover.rotor_hz) and hover.can_hover
-    true_rotor_hz = np.array(
-        [[f_a, f_b, math.nan if f_nom is None else f_nom] for _, f_a, f_b, f_nom in images]
-    ) / n
-    d = drive.throttle_at(true_rotor_hz, state)
-    lows = np.maximum(d[:, 0], idle)
-    highs = np.minimum(d[:, 1], throttle_max)
+    true_hz = np.array([[f_a, f_b, math.nan if f_nom is None else f_nom] for _, f_a, f_b, f_nom in images])
+    params = drive.parameters.as_kwargs()
+    v_oc = drive.pack.voltage(state)
+    lows, highs = throttle_window(true_hz[:, 0], true_hz[:, 1], n, v_oc, idle, throttle_max, params)
+    d_nominal = throttle_at_rad_s((true_hz[:, 2] / n) * TWO_PI, v_oc, **params)
     if not np.any(lows < highs):
         return []
     f_edges = n * drive.rotor_hz(np.stack([lows, np.maximum(lows, highs)], axis=-1), state)
@@ -379,13 +363,13 @@ def find_windows(
         low, high = float(lows[i]), float(highs[i])
         if not low < high:
             continue
-        d_c = float(d[i, 2])
+        d_c = float(d_nominal[i])
         crossing = d_c if idle <= d_c <= throttle_max else None
         margin_hover, mag, worst = margins(bool(zone))
         touches = band.flies and low <= band.throttle_high and band.throttle_low <= high
         weight = order.weight
         if zone and sensor is not None:
-            weight *= float(sensor.gain(0.5 * (f_a + f_b)))
+            weight = float(seen_weight(order.weight, sensor.gain(0.5 * (f_a + f_b))))
         out.append(
             Window(
                 mode=mode.name,
@@ -464,8 +448,8 @@ def _nearest(
     if sensor is not None:
         seen = np.asarray(fold(true_hz, sensor.sample_rate_hz)).reshape(-1)
         alias_margin = np.asarray(relative_margin(seen, mode), dtype=float).reshape(-1)
-        weights = np.array([o.weight for o in orders]) * np.asarray(sensor.gain(true_hz)).reshape(-1)
-        above = (true_hz > sensor.nyquist_hz) & (weights >= weight_floor)
+        weights = seen_weight(np.array([o.weight for o in orders]), np.asarray(sensor.gain(true_hz)).reshape(-1))
+        above = (true_hz > sensor.nyquist_hz) & above_floor(weights, weight_floor)
         use = above & (alias_margin < margins)
         margins = np.where(use, alias_margin, margins)
         aliased = use
@@ -558,7 +542,7 @@ def analyse(
         for band in bands:
             for order in orders:
                 for w in find_windows(drive, mode, order, band, policy, idle, throttle_max, sensor):
-                    if w.aliased and w.weight < weight_floor:
+                    if w.aliased and not above_floor(w.weight, weight_floor):
                         faint += 1
                     else:
                         windows.append(w)

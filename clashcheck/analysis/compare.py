@@ -48,6 +48,7 @@ from ..model.drive import Hover
 from ..model.modes import magnification
 from ..model.shift import MassShift, swap_shift
 from .clash import VERDICTS, ClashResult, DangerRange, check_build, merge_windows
+from .levels import FAIL_LEVELS as _CHECK_FAIL_LEVELS
 
 __all__ = [
     "FAIL_LEVELS",
@@ -67,7 +68,7 @@ __all__ = [
 ]
 
 #: ``--fail-on`` levels: the findings that count at each.
-FAIL_LEVELS = ("clash", "watch", "never")
+FAIL_LEVELS = tuple(_CHECK_FAIL_LEVELS)
 #: How B's all-up mass is found: ``auto`` (see the module notes), ``stated``, ``parts``.
 MASS_RULES = ("auto", "stated", "parts")
 #: A dwell point inside the margin "deepens" when B's magnification is this many times A's (+6 dB).

@@ -50,13 +50,22 @@ import numpy as np
 from ..errors import InputError
 from ..model.build import Build
 from ..model.drive import hover_rotor_hz, rotor_rad_s, throttle_at_rad_s
-from ..model.excitation import build_orders
-from ..model.modes import magnification
+from ..model.excitation import build_orders, fold_in_zone, orders_for, zone_image
 from ..model.motor import Motor
 from ..model.propeller import Propeller
 from ..model.rates import TWO_PI
 from ..model.shift import RAYLEIGH_SHARE, shift_modes, tip_masses
-from .clash import MAX_ALIAS_MULTIPLE, ClashResult, check_build
+from .clash import ClashResult, check_build
+from .windows import (
+    MAX_ALIAS_MULTIPLE,
+    above_floor,
+    interval_margin,
+    margin_band,
+    overlaps,
+    peak_magnification,
+    seen_weight,
+    throttle_window,
+)
 
 __all__ = [
     "PIN_NAMES",
@@ -539,30 +548,14 @@ class _Axes:
         self.combo = self.combo.reshape(-1)
         rows = []
         for poles, slots, blades in combos:
-            rows.append(build_orders(Motor(30.0, int(poles), int(slots)), Propeller(0.1, int(blades)),
-                                     build.check.families, build.check.custom_orders,
-                                     build.check.order_strengths))
+            rows.append(orders_for(int(blades), int(poles), int(slots), build.check.families,
+                                   build.check.custom_orders, build.check.order_strengths))
         self.order_rows = rows
-        self.order_numbers = np.array([[o.order for o in r] for r in rows])
-        self.order_weights = np.array([[o.weight for o in r] for r in rows])
-
-
-def _peak_magnification(x_lo, x_hi, f_lo, f_hi, zeta):
-    """Largest M(f/f_m) for f in [x_lo, x_hi] and f_m in [f_lo, f_hi].
-
-    M(r) rises to its peak at r_p = √(1 − 2ζ²) and falls after it (one
-    maximum), so the largest value over an interval of r sits at the point of
-    the interval nearest r_p.
-    """
-    r_p = np.sqrt(np.maximum(1.0 - 2.0 * zeta**2, 0.0))
-    r_star = np.clip(r_p, x_lo / f_hi, x_hi / f_lo)
-    return magnification(r_star, zeta)
-
-
-def _interval_margin(x_lo, x_hi, f_lo, f_hi):
-    """Smallest relative margin of [x_lo, x_hi] from a mode range [f_lo, f_hi]
-    (:func:`clashcheck.modes.relative_margin` over an interval)."""
-    return np.maximum(np.maximum((f_lo - x_hi) / f_lo, (x_lo - f_hi) / f_hi), 0.0)
+        # rows differ in length where two families give one order (2-blade props): pad, with a mask
+        width = max(len(r) for r in rows)
+        self.order_numbers = np.array([[o.order for o in r] + [1.0] * (width - len(r)) for r in rows])
+        self.order_weights = np.array([[o.weight for o in r] + [0.0] * (width - len(r)) for r in rows])
+        self.order_present = np.array([[True] * len(r) + [False] * (width - len(r)) for r in rows])
 
 
 def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Scores:
@@ -665,22 +658,21 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         f_hi = f_hi0[None, :] * rat
         zeta = np.where(zeta_known[None, :], zeta0[None, :] * rat, zeta0[None, :])
         sm = policy.margin_for_damping(zeta)
-        band_f_lo = f_lo * (1.0 - sm)
-        band_f_hi = f_hi * (1.0 + sm)
+        band_f_lo, band_f_hi = margin_band(f_lo, f_hi, sm)
         order = ax.order_numbers[ax.combo[sl]]          # (c, K)
         weight = ax.order_weights[ax.combo[sl]]
+        present = ax.order_present[ax.combo[sl]]        # (c, K): False where a row is padded
+        p4 = present[:, None, None, :]
         o4 = order[:, None, None, :]
         bl4 = band_lo[:, :, None, None]
         bh4 = band_hi[:, :, None, None]
         fly4 = flies_s[:, :, None, None]
 
         # direct windows, as clash.find_windows: band edges → throttle, clipped to [idle, max]
-        d_a = throttle_at_rad_s((band_f_lo[:, None, :, None] / o4) * TWO_PI, v, **drive)
-        d_b = throttle_at_rad_s((band_f_hi[:, None, :, None] / o4) * TWO_PI, v, **drive)
-        low = np.maximum(d_a, fl.idle)
-        high = np.minimum(d_b, fl.max)
+        low, high = throttle_window(band_f_lo[:, None, :, None], band_f_hi[:, None, :, None], o4, v,
+                                    fl.idle, fl.max, drive)
         ok = (band_f_hi > band_f_lo)[:, None, :, None]
-        touch = ok & (low < high) & fly4 & (low <= bh4) & (bl4 <= high)
+        touch = ok & p4 & (low < high) & fly4 & overlaps(low, high, bl4, bh4)
         clash_count = touch.sum(axis=(1, 2, 3))
 
         # excitation over the operating band (true frequency) and its peak response
@@ -690,11 +682,11 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         x_hi = (o4 * rotor_hi)[:, :, 0, :]
         fl4, fh4, z4 = f_lo[:, None, :, None], f_hi[:, None, :, None], zeta[:, None, :, None]
         with np.errstate(invalid="ignore"):
-            resp = weight[:, None, None, :] * _peak_magnification(
+            resp = weight[:, None, None, :] * peak_magnification(
                 x_lo[:, :, None, :], x_hi[:, :, None, :], fl4, fh4, z4)
-            marg = _interval_margin(x_lo[:, :, None, :], x_hi[:, :, None, :], fl4, fh4)
-        resp = np.where(fly4, resp, -np.inf)
-        marg = np.where(fly4, marg, np.inf)
+            marg = interval_margin(x_lo[:, :, None, :], x_hi[:, :, None, :], fl4, fh4)
+        resp = np.where(fly4 & p4, resp, -np.inf)
+        marg = np.where(fly4 & p4, marg, np.inf)
         flat_r = resp.reshape(c, -1)
         flat_m = marg.reshape(c, -1)
         best_r = np.argmax(flat_r, axis=1)
@@ -708,7 +700,7 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
 
         if sensor is not None:
             top_rotor = rotor_rad_s(fl.max, v, **drive)[:, :, 0, 0] / TWO_PI       # (c, S)
-            alias = _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_hi,
+            alias = _aliased(sensor, floor, order, weight, present, top_rotor, x_lo, x_hi, band_lo, band_hi,
                              flies_s, band_f_lo, band_f_hi, f_lo, f_hi, zeta, v, drive, fl)
             clash_count = clash_count + alias["touch_count"]
             better = alias["response"] > response
@@ -736,7 +728,7 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
     )
 
 
-def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_hi, flies_s,
+def _aliased(sensor, floor, order, weight, present, top_rotor, x_lo, x_hi, band_lo, band_hi, flies_s,
              band_f_lo, band_f_hi, f_lo, f_hi, zeta, v, drive, fl):
     """Aliased clash windows touching the band, and the aliased response, for one block.
 
@@ -764,45 +756,38 @@ def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_
     eps = 1e-9
     for zone in range(1, top_zone + 1):
         edge_lo, edge_hi = zone * nyq, (zone + 1) * nyq
-        reach = fly3 & (x_hi >= edge_lo * (1 - eps)) & (x_lo <= edge_hi * (1 + eps))
-        reach &= weight[:, None, :] * sensor.gain(edge_lo) >= floor * (1 - eps)
+        reach = fly3 & present[:, None, :] & (x_hi >= edge_lo * (1 - eps)) & (x_lo <= edge_hi * (1 + eps))
+        reach &= above_floor(seen_weight(weight[:, None, :], sensor.gain(edge_lo)), floor * (1 - eps))
         ci, si, ki = np.nonzero(reach)
         if ci.size == 0:
             continue
-        m_img = (zone + 1) // 2
         n_o = order[ci, ki][:, None]                                  # (P, 1)
-        if zone % 2:
-            img_a, img_b = m_img * fs - hi_app[ci], m_img * fs - lo_app[ci]   # (P, M)
-        else:
-            img_a, img_b = m_img * fs + lo_app[ci], m_img * fs + hi_app[ci]
+        img_a, img_b = zone_image(lo_app[ci], hi_app[ci], zone, fs)    # (P, M)
         pd = {k: (val.reshape(-1)[ci][:, None] if np.ndim(val) else val) for k, val in drive.items()}
         vv = v[ci, si, 0, 0][:, None]
-        d_a = throttle_at_rad_s((img_a / n_o) * TWO_PI, vv, **pd)
-        d_b = throttle_at_rad_s((img_b / n_o) * TWO_PI, vv, **pd)
-        low = np.maximum(d_a, fl.idle)
-        high = np.minimum(d_b, fl.max)
-        w_img = weight[ci, ki][:, None] * sensor.gain(0.5 * (img_a + img_b))
+        low, high = throttle_window(img_a, img_b, n_o, vv, fl.idle, fl.max, pd)
+        w_img = seen_weight(weight[ci, ki][:, None], sensor.gain(0.5 * (img_a + img_b)))
         valid = (lo_app[ci] <= hi_app[ci]) & (band_f_hi[ci] > band_f_lo[ci])
         valid &= img_a <= max_hz[ci, si, ki][:, None]
-        valid &= w_img >= floor
+        valid &= above_floor(w_img, floor)
         bl, bh = band_lo[ci, si][:, None], band_hi[ci, si][:, None]
-        touch = valid & (low < high) & (low <= bh) & (bl <= high)
+        touch = valid & (low < high) & overlaps(low, high, bl, bh)
         np.add.at(touch_count, ci, touch.sum(axis=1))
 
         # aliased response: the band's piece in this zone, as the sensor sees it
         t_lo = np.maximum(x_lo[ci, si, ki], edge_lo)
         t_hi = np.minimum(x_hi[ci, si, ki], edge_hi)
         inside = t_lo <= t_hi
-        w_piece = weight[ci, ki] * sensor.gain(t_lo)
-        keep = inside & (w_piece >= floor)
+        w_piece = seen_weight(weight[ci, ki], sensor.gain(t_lo))
+        keep = inside & above_floor(w_piece, floor)
         if not np.any(keep):
             continue
-        a_lo = np.asarray(_fold_in_zone(t_lo, zone, fs))
-        a_hi = np.asarray(_fold_in_zone(t_hi, zone, fs))
+        a_lo = np.asarray(fold_in_zone(t_lo, zone, fs))
+        a_hi = np.asarray(fold_in_zone(t_hi, zone, fs))
         app_lo, app_hi = np.minimum(a_lo, a_hi)[:, None], np.maximum(a_lo, a_hi)[:, None]
         with np.errstate(invalid="ignore"):
-            val = w_piece[:, None] * _peak_magnification(app_lo, app_hi, f_lo[ci], f_hi[ci], zeta[ci])
-            mar = _interval_margin(app_lo, app_hi, f_lo[ci], f_hi[ci])
+            val = w_piece[:, None] * peak_magnification(app_lo, app_hi, f_lo[ci], f_hi[ci], zeta[ci])
+            mar = interval_margin(app_lo, app_hi, f_lo[ci], f_hi[ci])
         val = np.where(keep[:, None], val, -np.inf)
         mar = np.where(keep[:, None], mar, np.inf)
         best_mode = np.argmax(val, axis=1)
@@ -814,13 +799,6 @@ def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_
                      negate=True)
     return {"touch_count": touch_count, "response": response, "response_at": response_at,
             "margin": margin, "margin_at": margin_at}
-
-
-def _fold_in_zone(freq_hz, zone: int, fs: float):
-    """Apparent frequency in a known Nyquist zone (linear there): the fold of
-    :func:`clashcheck.excitation.fold`, without its rounding at zone edges."""
-    m = (zone + 1) // 2
-    return m * fs - freq_hz if zone % 2 else freq_hz - m * fs
 
 
 def _scatter_max(target, where, index, values, info, negate: bool = False):

@@ -6,11 +6,13 @@ from pathlib import Path
 
 import click
 
+from ..analysis.levels import FAIL_LEVELS as _VERDICT_FAIL_LEVELS
+
 #: Exit codes of every command.
 EXIT_OK, EXIT_FAIL, EXIT_INPUT = 0, 1, 2
 
 FORMATS = click.Choice(["table", "json", "markdown"])
-FAIL_LEVELS = {"clash": ("clash",), "watch": ("watch", "clash"), "never": ()}
+FAIL_LEVELS = _VERDICT_FAIL_LEVELS
 
 
 class Quantity(click.ParamType):

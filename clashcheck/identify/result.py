@@ -6,12 +6,11 @@ import math
 from dataclasses import dataclass
 
 from ..errors import InputError
+from ..model.excitation import ORDER_FAMILIES
 from ..model.modes import MODE_AXES
 
 __all__ = ["MeasuredMode", "OrderStrength", "ModesResult", "ORDER_FAMILIES", "KINDS"]
 
-#: Families an order strength can carry (``custom`` when the family is not known).
-ORDER_FAMILIES = ("rotor", "blade", "electrical", "commutation", "cogging", "custom")
 #: Kinds of recording.
 KINDS = ("tap", "flight")
 

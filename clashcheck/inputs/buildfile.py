@@ -20,7 +20,7 @@ from typing import Any
 from ..errors import InputError
 from ..model.battery import PACK_STATES, Chemistry, Pack
 from ..model.build import Build, CheckSettings, Flight, MeasuredModes
-from ..model.excitation import FAMILIES, Sensor
+from ..model.excitation import FAMILIES, ORDER_FAMILIES, Sensor
 from ..model.modes import MODE_AXES, MODE_KINDS, POLICIES, MarginPolicy, Mode
 from ..model.motor import Motor
 from ..model.propeller import Propeller
@@ -323,7 +323,7 @@ def _parse_strengths(raws: list[dict[str, Any]], where: str) -> tuple[tuple[floa
         at = f"{where}[{i}]"
         f.check_keys(raw, _STRENGTH_KEYS, at)
         order = f.ratio(raw, "order", at, low=0.0, high=10000.0, open_high=False, required=True, what="an order")
-        family = f.choice(raw, "family", at, FAMILIES + ("custom",), required=True)
+        family = f.choice(raw, "family", at, ORDER_FAMILIES, required=True)
         strength = f.ratio(raw, "relative_strength", at, low=0.0, high=1e6, open_low=False, required=True,
                            what="a relative strength")
         assert order is not None and family is not None and strength is not None

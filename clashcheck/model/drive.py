@@ -31,6 +31,7 @@ from .rates import TWO_PI
 __all__ = [
     "rotor_rad_s",
     "throttle_at_rad_s",
+    "throttle_fall_rad_s",
     "hover_rotor_hz",
     "DriveParameters",
     "Drive",
@@ -135,6 +136,48 @@ def throttle_at_rad_s(omega_rad_s, v_oc, ke, r_m=0.0, i0=0.0, kq=0.0, n_motors=1
     with np.errstate(invalid="ignore"):
         d = 2.0 * e / (v_oc + np.sqrt(np.maximum(disc, 0.0)))
     return np.where(disc >= 0.0, d, np.inf)
+
+
+def throttle_fall_rad_s(omega_rad_s, v_oc, ke, r_m=0.0, i0=0.0, kq=0.0, n_motors=1, r_pack=0.0):
+    """Throttle [fraction] on the falling side: the larger root of the steady state.
+
+    With pack sag the rotor rate can peak below full throttle and fall after
+    it; each rate below the peak is then reached twice.  The larger root of
+    N·R_pack·I·d² − V·d + (Ke·ω + I·R_m) = 0 is
+    d = (V + √(V² − 4·N·R_pack·I·e)) / (2·N·R_pack·I).  Without pack
+    resistance (or current) there is no falling side and the result is
+    ``inf``; where the discriminant is negative the rate is above the peak
+    and the result is ``inf`` too.
+
+    Parameters
+    ----------
+    omega_rad_s : array_like
+        Shaft speed [rad/s].
+    v_oc, ke, r_m, i0, kq, n_motors, r_pack : array_like
+        As in :func:`rotor_rad_s`: open-circuit voltage [V], back-EMF
+        constant [V·s/rad], winding resistance [ohm], no-load current [A],
+        torque coefficient [N·m·s²], motors on the pack, pack resistance [ohm].
+
+    Returns
+    -------
+    numpy.ndarray
+        Throttle [fraction], broadcast over the inputs; ``inf`` where there is
+        no falling-side root.
+
+    Examples
+    --------
+    >>> ke = 60 / (2 * np.pi * 920)
+    >>> float(throttle_fall_rad_s(2 * np.pi * 200.0, 14.8, ke))
+    inf
+    """
+    w = np.asarray(omega_rad_s, dtype=float)
+    current = i0 + kq * w**2 / ke
+    e = ke * w + current * r_m
+    quad = n_motors * r_pack * current
+    disc = v_oc**2 - 4.0 * quad * e
+    with np.errstate(invalid="ignore", divide="ignore"):
+        d = (v_oc + np.sqrt(np.maximum(disc, 0.0))) / (2.0 * quad)
+    return np.where((disc >= 0.0) & (quad > 0.0), d, np.inf)
 
 
 def hover_rotor_hz(mass_kg, n_motors, thrust_coefficient, density_kg_m3, diameter_m):
