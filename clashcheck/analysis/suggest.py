@@ -15,7 +15,7 @@ The changes, each bounded so that it names something a builder can do:
   - *mode frequency*: the nearest frequency, below and above, at which no
     significant order in a dwell zone comes within the required margin at any
     pack state (stiffer or softer structure, or a moved mass); within
-    ×0.5 to ×2 of the present figure;
+    :data:`MODE_SCALE_RANGE` of the present figure;
   - *damping*: the damping ratio (damping tape, or soft mounting of the
     item) at which the required margin drops below the margin the dwell
     zones keep now; at most :data:`MAX_DAMPING` for the mode's kind.
@@ -26,7 +26,8 @@ The changes, each bounded so that it names something a builder can do:
     below it at every pack state; the Kv that keeps the order below the
     mode's margin at cruise (solved with :func:`scipy.optimize.brentq` on the
     loaded drive model, winding resistance scaled as for a rewind,
-    :func:`clashcheck.analysis.pick.kv_variant`); a neighbouring cell count
+    :func:`clashcheck.analysis.pick.kv_variant`; at most :data:`MAX_KV_CHANGE`
+    lower); a neighbouring cell count
     (±:data:`MAX_CELL_STEP`) that clears it;
   - hover sits inside the margin: the all-up mass (payload or pack, not at
     the arm tips) that moves hover out of it (the hover rotor rate goes as
@@ -60,6 +61,7 @@ __all__ = [
     "MAX_MASS_CHANGE",
     "MIN_CRUISE_ABOVE_HOVER",
     "MODE_SCALE_RANGE",
+    "MAX_KV_CHANGE",
     "Remaining",
     "Suggestion",
     "clashing_windows",
@@ -81,8 +83,11 @@ MAX_CELL_STEP = 2
 MIN_CRUISE_ABOVE_HOVER = 0.10
 #: Largest relative change of all-up mass proposed (a payload or pack change, judgement).
 MAX_MASS_CHANGE = 0.25
-#: Mode frequency proposed within this factor range of the present figure.
-MODE_SCALE_RANGE = (0.5, 2.0)
+#: Mode frequency proposed within this factor range of the present figure (stiffness ×0.44 to ×2.25
+#: at the same mass: a re-designed part, not a new airframe; judgement).
+MODE_SCALE_RANGE = (2.0 / 3.0, 1.5)
+#: Largest relative change of Kv proposed: the next windings of the same stator (judgement).
+MAX_KV_CHANGE = 0.25
 #: Clashing modes looked at, most severe first.
 _MAX_MODES = 6
 #: How far past a computed limit the checked change goes [relative].
@@ -395,9 +400,10 @@ def _kv(build, result, mr, windows) -> list[Suggestion]:
         drive = replace(build, motor=kv_variant(build.motor, kv0 * scale)).drive()
         return max(order * float(drive.rotor_hz(cruise, s)) for s in states) / edge_hz - 1.0
 
-    if not states or excess(1.0) <= 0 or excess(0.5) >= 0:
+    lowest = 1.0 - MAX_KV_CHANGE
+    if not states or excess(1.0) <= 0 or excess(lowest) >= 0:
         return []
-    scale = brentq(excess, 0.5, 1.0, xtol=1e-10) * (1 - _STEP)
+    scale = brentq(excess, lowest, 1.0, xtol=1e-10) * (1 - _STEP)
     changed = replace(build, motor=kv_variant(build.motor, kv0 * scale))
     after = check_build(changed)
     if not _hover_ok(result, after) or not _order_clears(after, mr.mode.name, windows[0]):

@@ -646,9 +646,13 @@ def suggestion_text(sug) -> str:
                 f"{how} structure){tail}: no order in a dwell zone then comes within its margin at any pack state.")
     elif sug.kind == "damping":
         how = "soft-mount the item" if sug.value > 0.1 else "add damping (e.g. constrained-layer tape)"
-        head = (f"Raise the damping of {sug.mode} from ζ = {sug.current:.3f} to ζ = {sug.value:.3f} ({how}): its "
-                f"required margin falls to {pct(d.get('required_margin_after'), 1)}, below the "
-                f"{pct(d.get('dwell_margin'), 1)} that {order} keeps in the dwell zones.")
+        head = f"Raise the damping of {sug.mode} from ζ = {sug.current:.3f} to ζ = {sug.value:.3f} ({how}): "
+        if d.get("dwell_margin", 0.0) > 0:
+            head += (f"its required margin falls to {pct(d.get('required_margin_after'), 1)}, below the "
+                     f"{pct(d.get('dwell_margin'), 1)} the orders keep from it in the dwell zones.")
+        else:
+            head += ("an order sits on it in a dwell zone, and at this damping the policy asks no margin "
+                     "(amplification factor below 2.5).")
     elif sug.kind == "cruise":
         head = (f"Keep cruise below {pct(d.get('window_starts_throttle'), 1)} (now {pct(sug.current)}): the {order} "
                 f"window on {sug.mode} starts there.")
