@@ -44,10 +44,10 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 from _reference_scorer import peak_m, reference_score  # noqa: E402  (shared with bench/bench_pick.py)
 
 # Invented test frame (fixture data, not a reference).  The low-rate 700 Hz
-# sensor has no anti-alias filter, so aliased lines matter (they give the peak
-# response for most candidates); one mode has no damping figure (assumed); two
-# are arm modes that shift with the tip mass.  On 4 cells a few candidates keep
-# the operating band clear, so both sides of the first ranking key occur.
+# sensor has a gentle anti-alias filter at 250 Hz, so aliased lines matter
+# (they give the peak response for some candidates); one mode has no damping
+# figure (assumed); two are arm modes that shift with the tip mass.  A few
+# candidates are not `clash`, so both sides of the first ranking key occur.
 FRAME = """
 name = "test frame"
 [frame]
@@ -81,6 +81,7 @@ cells = 6
 cell_resistance = "3 mohm"
 [sensor]
 sample_rate = "700 Hz"
+antialias_cutoff = "250 Hz"
 [flight]
 idle = "4 %"
 cruise = "45 %"

@@ -21,8 +21,8 @@ mass is A's); when B states a mass of its own, that mass is used as given.
 in :attr:`CompareResult.mass` (a :class:`MassRule`).
 
 **Worse within a clash.**  A mode that clashes in both A and B can still get
-much worse: a dwell point (hover, or cruise) already inside the required
-margin moves closer to the mode.  Such a point is a :class:`Deepened`
+much worse: a dwell point (hover; cruise where both builds cruise) already
+inside the required margin moves closer to the mode.  Such a point is a :class:`Deepened`
 finding when B's single-degree-of-freedom magnification there is at least
 :data:`DEEPENED_FACTOR` times A's (twice the response amplitude, +6 dB) and B
 keeps less than its required margin.  It counts as "B is worse" at the
@@ -85,7 +85,7 @@ class Finding:
     label: str
     #: Whether it is seen through the sensor fold.
     aliased: bool
-    #: ``"clash"`` (touches the operating band at some pack state) or ``"watch"``.
+    #: ``"clash"`` (a significant order in a dwell zone at some pack state) or ``"watch"``.
     level: str
 
 
@@ -250,8 +250,10 @@ class CompareResult:
 def findings(result: ClashResult) -> dict[tuple[str, str, bool], str]:
     """Every (mode, order label, aliased) with a window, and its worst level.
 
-    The level is ``"clash"`` when a window of that order on that mode touches
-    the operating band at any pack state, else ``"watch"``.
+    The level is the worst of the check's own window levels (``"clash"``: a
+    significant order in a dwell zone at some pack state; ``"watch"``: passage,
+    or a weak order in a dwell zone).  Windows of a weak order in passage
+    (level ``"clear"``) are not findings.
 
     Parameters
     ----------
@@ -265,10 +267,11 @@ def findings(result: ClashResult) -> dict[tuple[str, str, bool], str]:
     """
     out: dict[tuple[str, str, bool], str] = {}
     for w in result.windows:
+        if w.level not in ("clash", "watch"):
+            continue
         key = (w.mode, w.label, w.aliased)
-        level = "clash" if w.touches_operating_band else "watch"
         if out.get(key) != "clash":
-            out[key] = level
+            out[key] = w.level
     return out
 
 
@@ -333,6 +336,8 @@ def _deepened(a: ClashResult, b: ClashResult, changes: Sequence[MarginChange]) -
     vb = {mr.mode.name: mr for mr in b.modes}
     out = []
     for c in changes:
+        if c.point == "cruise" and not (a.cruise_dwell and b.cruise_dwell):
+            continue  # cruise is passage unless both builds cruise there
         mr_a, mr_b = va.get(c.mode), vb.get(c.mode)
         if mr_a is None or mr_b is None or mr_a.verdict != "clash" or mr_b.verdict != "clash":
             continue

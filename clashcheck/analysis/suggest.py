@@ -22,17 +22,24 @@ The changes, each bounded so that it names something a builder can do:
 
 - **Operating point** (for the order that makes the clash):
 
-  - the order's window lies above hover: the cruise throttle that keeps
-    below it at every pack state; the Kv that keeps the order below the
-    mode's margin at cruise (solved with :func:`scipy.optimize.brentq` on the
-    loaded drive model, winding resistance scaled as for a rewind,
-    :func:`clashcheck.analysis.pick.kv_variant`; at most :data:`MAX_KV_CHANGE`
-    lower); a neighbouring cell count
+  - the clash lies in the cruise dwell zone (a build that cruises): the
+    cruise throttle that keeps the zone (cruise ± the dwell spread) below the
+    order's windows at every pack state (at least
+    :data:`MIN_CRUISE_ABOVE_HOVER` above hover); the Kv that keeps the order
+    below the mode's margin over that zone (solved with
+    :func:`scipy.optimize.brentq` on the loaded drive model, winding
+    resistance scaled as for a rewind,
+    :func:`clashcheck.analysis.pick.kv_variant`; at most
+    :data:`MAX_KV_CHANGE` lower); a neighbouring cell count
     (±:data:`MAX_CELL_STEP`) that clears it;
-  - hover sits inside the margin: the all-up mass (payload or pack, not at
-    the arm tips) that moves hover out of it (the hover rotor rate goes as
-    √mass; Kv and cells move the hover throttle, not the hover rotor rate),
-    within ±:data:`MAX_MASS_CHANGE`.
+  - the clash lies in the hover dwell zone: the all-up mass (payload or
+    pack, not at the arm tips) that moves the zone out of the margin (the
+    hover rotor rate goes as √mass; Kv and cells move the hover throttle, not
+    the hover rotor rate), within ±:data:`MAX_MASS_CHANGE`.
+
+A clash is what the check calls one: a significant order in a dwell zone
+(:func:`clashing_windows`); the dwell zones are the check's own
+(:func:`dwell_zones`).
 
 No change is proposed that puts hover outside the usable hover range
 (:data:`USABLE_HOVER`, the same range ``pick`` ranks by) at a pack state
@@ -49,7 +56,9 @@ import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
 
-from ..model.modes import Mode
+import numpy as np
+
+from ..model.modes import Mode, amplification_factor
 from .clash import ClashResult, Window, _apparent_range, check_build
 from .pick import DEFAULT_HOVER_RANGE
 
@@ -170,9 +179,9 @@ def clashing_windows(result: ClashResult, mode: str) -> list[Window]:
     Returns
     -------
     list of Window
-        Windows of that mode that touch the operating band, most severe first.
+        Windows of that mode at level ``clash`` (a significant order in a dwell zone), most severe first.
     """
-    return [w for w in result.windows if w.mode == mode and w.touches_operating_band]
+    return [w for w in result.windows if w.mode == mode and w.level == "clash"]
 
 
 def dwell_zones(result: ClashResult) -> list[tuple[str, float, float]]:
@@ -186,9 +195,10 @@ def dwell_zones(result: ClashResult) -> list[tuple[str, float, float]]:
     Returns
     -------
     list of tuple
-        The operating band of each pack state at which the craft flies.
+        Every dwell zone of each pack state at which the craft flies (hover ± spread,
+        cruise when the build cruises there, or the measured zones).
     """
-    return [(b.pack_state, b.throttle_low, b.throttle_high) for b in result.bands if b.flies]
+    return [(b.pack_state, lo, hi) for b in result.bands if b.flies for _what, lo, hi in b.dwell]
 
 
 # ---------------------------------------------------------------------------
@@ -248,23 +258,30 @@ def _order_clears(after: ClashResult, mode: str, window: Window) -> bool:
 # Structural changes
 
 
-def _excitation_intervals(build, result: ClashResult) -> list[tuple[float, float]]:
+def _excitation_intervals(build, result: ClashResult, zeta: float) -> list[tuple[float, float]]:
     """Apparent excitation frequency intervals [Hz] of the orders over the dwell zones.
 
-    Aliased pieces count when the order's weight after the anti-alias filter
-    reaches the build's weight floor, as in the check.
+    An order counts where it could be significant on this mode: its weight
+    (after the anti-alias filter for aliased pieces) × the mode's amplification
+    factor reaches the build's significance floor.  Aliased pieces count, as
+    in the check, when that weight also reaches the weight floor.
     """
     drive = build.drive()
     sensor = build.sensor
+    floor = build.check.significance_floor
+    af = amplification_factor(zeta)
     out: list[tuple[float, float]] = []
     for state, low, high in dwell_zones(result):
-        rotor = sorted(float(drive.rotor_hz(t, state)) for t in (low, high))
+        grid = np.linspace(low, high, 9)   # the rate may peak inside a zone on a sagging pack
+        rates = np.asarray(drive.rotor_hz(grid, state), dtype=float)
+        r_lo, r_hi = float(np.min(rates)), float(np.max(rates))
         for order in result.orders:
-            x_lo, x_hi = order.order * rotor[0], order.order * rotor[1]
-            out.append((x_lo, x_hi))
+            x_lo, x_hi = order.order * r_lo, order.order * r_hi
+            if order.weight * af >= floor:
+                out.append((x_lo, x_hi))
             if sensor is not None and x_hi > sensor.nyquist_hz:
                 weight = order.weight * float(sensor.gain(max(x_lo, sensor.nyquist_hz)))
-                if weight >= build.check.weight_floor:
+                if weight >= build.check.weight_floor and weight * af >= floor:
                     out.extend(_apparent_range(max(x_lo, sensor.nyquist_hz), x_hi, sensor))
     return out
 
@@ -296,7 +313,7 @@ def _mode_frequency(build, result, mr, window) -> list[Suggestion]:
     mode, sm = mr.mode, mr.required_margin
     if sm >= 1.0:
         return []
-    intervals = _excitation_intervals(build, result)
+    intervals = _excitation_intervals(build, result, mr.damping)
     # scale s is forbidden when [s·f_lo·(1−sm), s·f_hi·(1+sm)] meets an interval [a, b]
     forbidden = sorted((a / (mode.frequency_high_hz * (1 + sm)), b / (mode.frequency_low_hz * (1 - sm)))
                        for a, b in intervals)
@@ -337,7 +354,8 @@ def _damping(build, result, mr, window) -> list[Suggestion]:
     policy = build.check.policy
     mode = mr.mode
     cap = MAX_DAMPING.get(mode.kind, 0.08)
-    present = _dwell_margin(mode, _excitation_intervals(build, result))
+    parts = [w.margin_in_part for w in clashing_windows(result, mode.name) if w.margin_in_part is not None]
+    present = min(parts) if parts else _dwell_margin(mode, _excitation_intervals(build, result, mr.damping))
     zeta0 = mr.damping
     if not math.isfinite(present) or zeta0 >= cap:
         return []
@@ -367,23 +385,32 @@ def _damping(build, result, mr, window) -> list[Suggestion]:
 # Operating-point changes
 
 
-def _band(result, state):
-    return next(b for b in result.bands if b.pack_state == state)
+def _zone(result, state, what):
+    band = next(b for b in result.bands if b.pack_state == state)
+    return next(((lo, hi) for w, lo, hi in band.dwell if w == what), None)
 
 
 def _cruise(build, result, mr, windows) -> list[Suggestion]:
+    """Cruise (with its dwell spread) kept below the order's windows at every pack state."""
+    spread = build.flight.dwell_spread
     limit = min(w.throttle_low for w in windows)
-    top_hover = max(b.throttle_low for b in result.bands if b.flies)
-    cruise = limit - _STEP
+    known = [b.hover.throttle for b in result.bands if b.flies and b.hover.how != "unknown"]
+    if not known:
+        return []
+    top_hover = max(known)
+    cruise = limit - spread - _STEP
     if cruise < max(top_hover + MIN_CRUISE_ABOVE_HOVER, build.flight.idle) or cruise >= build.flight.cruise:
         return []
     changed = replace(build, flight=replace(build.flight, cruise=cruise))
-    s = _confirm("cruise", mr.mode.name, windows[0], cruise, build.flight.cruise, result, changed,
-                 {"window_starts_throttle": limit})
-    return [s] if _order_clears(check_build(changed), mr.mode.name, windows[0]) else []
+    after = check_build(changed)
+    if not _order_clears(after, mr.mode.name, windows[0]):
+        return []
+    return [_confirm("cruise", mr.mode.name, windows[0], cruise, build.flight.cruise, result, changed,
+                     {"window_starts_throttle": limit, "dwell_spread": spread})]
 
 
 def _kv(build, result, mr, windows) -> list[Suggestion]:
+    """The Kv that keeps the order below the mode's margin over the cruise dwell zone at every pack state."""
     from scipy.optimize import brentq
 
     from .pick import kv_variant
@@ -393,12 +420,12 @@ def _kv(build, result, mr, windows) -> list[Suggestion]:
     order = windows[0].order
     edge_hz = mr.mode.frequency_low_hz * (1.0 - mr.required_margin)
     kv0 = build.motor.kv_hz_per_v
-    cruise = build.flight.cruise
+    top = min(build.flight.max, build.flight.cruise + build.flight.dwell_spread)
     states = [b.pack_state for b in result.bands if b.flies]
 
     def excess(scale: float) -> float:
         drive = replace(build, motor=kv_variant(build.motor, kv0 * scale)).drive()
-        return max(order * float(drive.rotor_hz(cruise, s)) for s in states) / edge_hz - 1.0
+        return max(order * float(drive.rotor_hz(top, s)) for s in states) / edge_hz - 1.0
 
     lowest = 1.0 - MAX_KV_CHANGE
     if not states or excess(1.0) <= 0 or excess(lowest) >= 0:
@@ -408,7 +435,8 @@ def _kv(build, result, mr, windows) -> list[Suggestion]:
     after = check_build(changed)
     if not _hover_ok(result, after) or not _order_clears(after, mr.mode.name, windows[0]):
         return []
-    return [_confirm("kv", mr.mode.name, windows[0], kv0 * scale, kv0, result, changed, {"margin_edge_hz": edge_hz})]
+    return [_confirm("kv", mr.mode.name, windows[0], kv0 * scale, kv0, result, changed,
+                     {"margin_edge_hz": edge_hz, "cruise_top_throttle": top})]
 
 
 def _cells(build, result, mr, windows) -> list[Suggestion]:
@@ -424,24 +452,51 @@ def _cells(build, result, mr, windows) -> list[Suggestion]:
 
 
 def _mass(build, result, mr, windows) -> list[Suggestion]:
-    """All-up mass that takes hover out of the margin: n_hover ∝ √m, so m' = m·(f'/f)²."""
+    """All-up mass that takes the hover dwell zone out of the margin at every pack state.
+
+    The hover rotor rate goes as √m (thrust N·C_T·ρ·n²·D⁴ = m·g); the zone is
+    hover ± the dwell spread in throttle, so the mass is solved on the drive
+    model (:func:`scipy.optimize.brentq`) for the zone's edge to meet the
+    margin's edge.
+    """
+    from scipy.optimize import brentq
+
     mode, sm = mr.mode, mr.required_margin
     bands = [b for b in result.bands if b.flies]
     if windows[0].aliased or not bands or any(b.hover.how != "computed" or not b.hover.can_hover for b in bands):
         return []
     order = windows[0].order
-    f_hover = [order * b.hover.rotor_hz for b in bands]
-    lo, hi = min(f_hover), max(f_hover)
+    spread = build.flight.dwell_spread
+    fl = build.flight
+    m0 = build.mass_kg
+
+    def zone_hz(mass: float, side: float) -> float:
+        drive = build.drive()
+        rates = []
+        for b in bands:
+            h = drive.hover(mass, b.pack_state, None)
+            t = min(fl.max, max(fl.idle, h.throttle + side * spread))
+            rates.append(order * float(drive.rotor_hz(t, b.pack_state)))
+        return max(rates) if side > 0 else min(rates)
+
     options = []
-    for edge, f_ref in ((mode.frequency_low_hz * (1 - sm) * (1 - _STEP), lo),
-                        (mode.frequency_high_hz * (1 + sm) * (1 + _STEP), hi)):
-        mass = build.mass_kg * (edge / f_ref) ** 2
-        if abs(mass / build.mass_kg - 1) > MAX_MASS_CHANGE:
+    below = mode.frequency_low_hz * (1 - sm)
+    above = mode.frequency_high_hz * (1 + sm)
+    for lo_m, hi_m, f in (
+        (m0 * (1 - MAX_MASS_CHANGE), m0, lambda m: zone_hz(m, +1.0) - below * (1 - _STEP)),   # lighter
+        (m0, m0 * (1 + MAX_MASS_CHANGE), lambda m: zone_hz(m, -1.0) - above * (1 + _STEP)),   # heavier
+    ):
+        try:
+            if f(lo_m) * f(hi_m) > 0:
+                continue
+            mass = brentq(f, lo_m, hi_m, xtol=1e-9)
+        except ValueError:       # hover out of reach inside the range: no bracket
             continue
         changed = replace(build, mass_kg=mass)
         after = check_build(changed)
         if _hover_ok(result, after) and _order_clears(after, mode.name, windows[0]):
-            options.append(_confirm("mass", mode.name, windows[0], mass, build.mass_kg, result, changed))
+            options.append(_confirm("mass", mode.name, windows[0], mass, m0, result, changed,
+                                    {"dwell_spread": spread}))
     if not options:
         return []
     return [min(options, key=lambda s: (not s.is_fix, abs(s.change)))]
@@ -478,11 +533,11 @@ def suggest(build, result: ClashResult | None = None) -> tuple[Suggestion, ...]:
     for _sev, mr, ws in ranked[:_MAX_MODES]:
         top = ws[0]
         group = [w for w in ws if w.label == top.label and w.aliased == top.aliased]
+        zones = {w.dwell_zone for w in group}
         found = _mode_frequency(build, result, mr, top) + _damping(build, result, mr, top)
-        hover_inside = any(w.throttle_low <= _band(result, w.pack_state).throttle_low for w in group)
-        if hover_inside:
+        if "hover" in zones:
             found += _mass(build, result, mr, group)
-        else:
+        elif zones & {"cruise", "operating band"}:
             found += _cruise(build, result, mr, group) + _kv(build, result, mr, group) + _cells(build, result, mr, group)
         found.sort(key=lambda s: not s.is_fix)
         out.extend(found)

@@ -294,8 +294,8 @@ def fold_in_zone(freq_hz, zone: int, sample_rate_hz: float):
     ----------
     freq_hz : float or array_like
         True frequency [Hz].
-    zone : int
-        Its Nyquist zone.
+    zone : int or array_like of int
+        Its Nyquist zone (1 or more).
     sample_rate_hz : float
         Sensor sample rate fs [Hz].
 
@@ -309,6 +309,10 @@ def fold_in_zone(freq_hz, zone: int, sample_rate_hz: float):
     >>> fold_in_zone(1400.0, 2, 1000.0)
     400.0
     """
+    if np.ndim(zone):
+        z = np.asarray(zone)
+        m_arr = (z + 1) // 2
+        return np.where(z % 2 == 1, m_arr * sample_rate_hz - freq_hz, freq_hz - m_arr * sample_rate_hz)
     m = (zone + 1) // 2
     return m * sample_rate_hz - freq_hz if zone % 2 else freq_hz - m * sample_rate_hz
 

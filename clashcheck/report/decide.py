@@ -120,7 +120,8 @@ def _shift_dict(shift) -> dict[str, Any]:
 
 def _ranges_dict(per_mode) -> dict[str, Any]:
     return {mode: {state: [{"throttle_low": r.throttle_low, "throttle_high": r.throttle_high,
-                            "orders": list(r.orders), "touches_operating_band": r.touches_operating_band}
+                            "orders": list(r.orders), "touches_operating_band": r.touches_operating_band,
+                            "lies_in": r.lies_in, "level": r.level}
                            for r in ranges] for state, ranges in per.items()}
             for mode, per in per_mode.items()}
 
@@ -202,13 +203,14 @@ def _states_text(per_state: dict[str, tuple[str, ...]], states: list[str]) -> st
 
 
 def _range_strings(per_state) -> dict[str, tuple[str, ...]]:
-    """Per pack state: the ranges that touch that state's operating band, and a count of the others."""
+    """Per pack state: the ranges that reach a dwell zone (``*`` when they clash), and a count of the others."""
     out = {}
     for state, ranges in per_state.items():
-        inside = [f"{pct(r.throttle_low)}–{pct(r.throttle_high)}" for r in ranges if r.touches_operating_band]
+        inside = [f"{pct(r.throttle_low)}–{pct(r.throttle_high)}{' *' if r.level == 'clash' else ''}"
+                  for r in ranges if r.lies_in == "dwell"]
         others = len(ranges) - len(inside)
         if others:
-            inside.append(f"+{others} outside")
+            inside.append(f"+{others} in passage")
         out[state] = tuple(inside)
     return out
 
@@ -228,6 +230,10 @@ def _side_rows(cmp) -> list[list[str]]:
     def band_text(x):
         return f"{pct(x.throttle_low)}–{pct(x.throttle_high)}" if x.flies else "none"
     rows.append(["operating band", per_state(a, band_text), per_state(b, band_text)])
+
+    def dwell_text(x):
+        return ", ".join(f"{what} {pct(lo)}–{pct(hi)}" for what, lo, hi in x.dwell) if x.flies else "none"
+    rows.append(["dwell zones", per_state(a, dwell_text), per_state(b, dwell_text)])
     rows.append(["all-up mass", f"{1e3 * cmp.build_a.mass_kg:.0f} g" if cmp.build_a is not None else "-",
                  f"{1e3 * cmp.build_b.mass_kg:.0f} g" if cmp.build_b is not None else "-"])
     rows.append(["hover on an empty pack", _hover_text(cmp.empty_hover_a), _hover_text(cmp.empty_hover_b)])
@@ -378,7 +384,7 @@ def render_compare(cmp, fmt: str, fail_on: str = "clash") -> str:
         doc.para(f"**{line}**" if doc.md else line)
     doc.section("Side by side (per pack state where they differ)")
     doc.table(_side_rows(cmp), ["", head_a, head_b])
-    doc.section("Modes and danger ranges in the operating band, per pack state (JSON has them all)")
+    doc.section("Modes and danger ranges in dwell zones, per pack state (* clash; JSON has them all)")
     doc.table(_mode_rows(cmp), ["mode", "A f (Hz)", "A danger ranges", "A verdict",
                                 "B f (Hz)", "B danger ranges", "B verdict"])
     margins = _margin_rows(cmp)
