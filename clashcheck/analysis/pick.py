@@ -936,7 +936,7 @@ class PickResult:
     name: str
     #: Candidates scored.
     searched: int
-    #: How many keep the band clear at every pack state (and fly).
+    #: How many have no clash window at any pack state (and fly): the check's ``clash`` rule.
     clear_count: int
     #: The best candidates, best first.
     top: tuple[Pick, ...]

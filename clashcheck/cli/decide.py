@@ -115,9 +115,9 @@ def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str |
     """Search parts for the build's frame and rank them.
 
     With no search option, catalog motors and fitting catalog props are
-    searched.  Exit codes: 0 the best candidate keeps the operating band
-    clear, 1 none does, 2 bad input (e.g. an empty candidate set or
-    contradictory pins).
+    searched.  Exit codes: 0 the best candidate has no clash (no
+    significant order in a dwell zone, hover at every pack state), 1 none
+    has, 2 bad input (e.g. an empty candidate set or contradictory pins).
     """
     from ..analysis.pick import pick as run_pick
     from ..analysis.pick import search_space

@@ -424,9 +424,9 @@ def pick_reasons(p, hover_range: tuple[float, float]) -> tuple[str, ...]:
         states = [s for s, h in p.hover.items() if not (math.isfinite(h) and h <= 1.0)]
         out.append("cannot hover at the " + ", ".join(states) + " pack")
     elif p.band_clear:
-        out.append("operating band clear at every pack state")
+        out.append("no clash at any pack state (no significant order in a dwell zone)")
     else:
-        out.append(f"{p.clash_count} clash window(s) touch the operating band")
+        out.append(f"{p.clash_count} clash window(s): a significant order in a dwell zone")
     known = [h for h in p.hover.values() if math.isfinite(h)]
     if known:
         span = f"{100 * min(known):.0f}–{100 * max(known):.0f} %"
@@ -536,7 +536,7 @@ def pick_to_dict(res) -> dict[str, Any]:
         "hover_range": {"low": res.hover_range[0], "high": res.hover_range[1]},
         "ranking": [
             "hovers at every pack state",
-            "operating band clear at every pack state",
+            "no clash window (a significant order in a dwell zone) at any pack state",
             "hover within the hover range at every pack state",
             "lowest peak weighted response (order weight x magnification) over the operating band",
         ],
@@ -583,10 +583,10 @@ def render_pick(res, fmt: str) -> str:
     doc = _Doc(fmt == "markdown")
     low, high = res.hover_range
     doc.title(f"Pick: {res.name}")
-    doc.para(f"{res.searched} candidates searched; {res.clear_count} keep the operating band clear at every "
-             "pack state.")
+    doc.para(f"{res.searched} candidates searched; {res.clear_count} have no clash at any pack state "
+             "(no significant order in a dwell zone, hover everywhere).")
     doc.table(_pick_rows(res), ["rank", "candidate", "band", "hover", "peak response", "worst margin", "check"])
-    doc.para(f"Ranked by: hovers at every pack state; operating band clear; hover within "
+    doc.para(f"Ranked by: hovers at every pack state; no clash window; hover within "
              f"{100 * low:.0f}–{100 * high:.0f} % at every pack state (else marked (!)); then the lowest peak "
              "weighted response (order weight × single-degree-of-freedom magnification over the operating band).")
     doc.section("Reasons")
