@@ -224,3 +224,18 @@ def test_cli_suggestions_in_every_format_without_matplotlib(tmp_path):
     assert "## Suggestions" in md and "rpm/V" in md
     # without --suggest the check stays as it was
     assert "Suggestions" not in runner.invoke(main, ["check", str(path)]).stdout
+
+
+def test_mass_clears_the_whole_hover_dwell_zone():
+    # dwell zone hover ± 1 % throttle; no-load model: rotor = Kv·d·V, so the zone's top is n + 0.01·Kv·V and
+    # the zone clears the 175 Hz mode's margin (175·0.85 = 148.75 Hz) when n' + 0.01·Kv·V_full sits a step
+    # below it (derived); hover rate ∝ √m gives m' = m·(n'/n)²
+    text = TEMPLATE.format(mode_hz=175.0, kind="plate").replace('dwell_spread = "0 %"', 'dwell_spread = "1 %"')
+    build = parse_build(tomllib.loads(text), path="s.toml")
+    assert build.flight.dwell_spread == pytest.approx(0.01)
+    mass = _by_kind(suggest(build))["mass"]
+    n_new = 175.0 * (1 - SM) * (1 - 1e-3) - 0.01 * KV * V_FULL
+    assert mass.value == pytest.approx(MASS * (n_new / N_HOVER) ** 2, rel=1e-6)
+    assert mass.is_fix and -0.25 <= mass.change < 0
+    after = check_build(_apply(build, mass))
+    assert next(mr.verdict for mr in after.modes if mr.mode.name == "plate") != "clash"

@@ -646,10 +646,11 @@ def suggestion_text(sug) -> str:
     d = sug.details
     if sug.kind == "mode-frequency":
         other = d.get("other_side_hz")
-        tail = "" if other is None else f" (the other side: {other:.0f} Hz, {100 * (other / sug.current - 1):+.0f} %)"
+        tail = "" if other is None else f"; or {other:.0f} Hz, {100 * (other / sug.current - 1):+.0f} %"
         how = "stiffer" if sug.value > sug.current else "softer or heavier"
         head = (f"Move {sug.mode} from {sug.current:.0f} Hz to {sug.value:.0f} Hz ({100 * sug.change:+.0f} %, a "
-                f"{how} structure){tail}: no order in a dwell zone then comes within its margin at any pack state.")
+                f"{how} structure{tail}): no significant order in a dwell zone then comes within its margin at "
+                "any pack state.")
     elif sug.kind == "damping":
         how = "soft-mount the item" if sug.value > 0.1 else "add damping (e.g. constrained-layer tape)"
         head = f"Raise the damping of {sug.mode} from ζ = {sug.current:.3f} to ζ = {sug.value:.3f} ({how}): "
@@ -706,7 +707,13 @@ def suggestions_to_dict(suggestions) -> list[dict[str, Any]]:
 
 def _suggestion_lines(result, suggestions) -> list[str]:
     if suggestions:
-        return [suggestion_text(s) for s in suggestions]
+        covered = {s.mode for s in suggestions}
+        left = [mr.mode.name for mr in result.modes if mr.verdict == "clash" and mr.mode.name not in covered]
+        lines = [suggestion_text(s) for s in suggestions]
+        if left:
+            lines.append("No computed change within the bounds clears " + ", ".join(left)
+                         + "; see 'clashcheck pick'.")
+        return lines
     if result.verdict == "clash":
         return ["No single computed change clears the clashes found; see 'clashcheck pick'."]
     return [f"None needed: the verdict is {result.verdict}."]
