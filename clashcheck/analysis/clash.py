@@ -59,8 +59,8 @@ from .windows import (
     rotor_peak,
     rotor_range_hz,
     seen_weight,
-    throttle_windows,
     window_levels,
+    windows_from_roots,
 )
 
 __all__ = [
@@ -480,13 +480,15 @@ def find_windows(
     hover = band.hover
     hover_known = not math.isnan(hover.rotor_hz) and hover.can_hover
     true_hz = np.array([[f_a, f_b, math.nan if f_nom is None else f_nom] for _, f_a, f_b, f_nom in images])
-    rise_lo, rise_hi, fall_lo, fall_hi = throttle_windows(true_hz[:, 0], true_hz[:, 1], n, v_oc, idle,
-                                                          throttle_max, params)
+    omega = (true_hz / n) * TWO_PI       # band low, band high, nominal: both roots in one call each
+    with np.errstate(invalid="ignore"):
+        up = throttle_at_rad_s(omega, v_oc, **params)
+        down = throttle_fall_rad_s(omega, v_oc, **params)
+    rise_lo, rise_hi, fall_lo, fall_hi = windows_from_roots(up[:, 0], up[:, 1], down[:, 0], down[:, 1], idle,
+                                                            throttle_max)
     if not (np.any(rise_lo < rise_hi) or np.any(fall_lo < fall_hi)):
         return []
-    w_nominal = (true_hz[:, 2] / n) * TWO_PI
-    d_nominal = {"rising": throttle_at_rad_s(w_nominal, v_oc, **params),
-                 "falling": throttle_fall_rad_s(w_nominal, v_oc, **params)}
+    d_nominal = {"rising": up[:, 2], "falling": down[:, 2]}
 
     # Margin at hover and across the band: one figure for the direct line and
     # one for its fold, shared by every image of the same kind.
@@ -518,18 +520,20 @@ def find_windows(
         weights[1:] = seen_weight(order.weight, np.asarray(sensor.gain(mid), dtype=float))
     fs = sensor.sample_rate_hz if sensor is not None else 0.0
     out = []
-    for side, lows, highs in (("rising", rise_lo, rise_hi), ("falling", fall_lo, fall_hi)):
-        some = np.nonzero(lows < highs)[0]
-        if some.size == 0:
-            continue
-        rule = window_levels(lows[some], highs[some], n, v_oc, params, peak, zone_lo, zone_hi, weights[some],
+    n_img = len(images)
+    lows = np.concatenate([rise_lo, fall_lo])          # rising windows, then falling ones
+    highs = np.concatenate([rise_hi, fall_hi])
+    some = np.nonzero(lows < highs)[0]
+    if some.size:
+        image_of = some % n_img
+        rule = window_levels(lows[some], highs[some], n, v_oc, params, peak, zone_lo, zone_hi, weights[image_of],
                              mode.frequency_low_hz, mode.frequency_high_hz, zeta, significance_floor,
-                             alias_zones[some], fs)
-        r_lo, r_hi = rotor_range_hz(lows, highs, v_oc, params, peak)
-        for j, i in enumerate(some):
-            i = int(i)
+                             alias_zones[image_of], fs)
+        for j, k in enumerate(some):
+            side = "rising" if k < n_img else "falling"
+            i = int(k % n_img)
             zone = int(images[i][0])
-            low, high = float(lows[i]), float(highs[i])
+            low, high = float(lows[k]), float(highs[k])
             d_c = float(d_nominal[side][i])
             crossing = d_c if idle <= d_c <= throttle_max else None
             margin_hover, mag, worst = margins(bool(zone))
@@ -557,8 +561,8 @@ def find_windows(
                     touches_operating_band=bool(touches),
                     weight=weight,
                     severity=weight * af,
-                    excitation_low_hz=float(n * r_lo[i]),
-                    excitation_high_hz=float(n * r_hi[i]),
+                    excitation_low_hz=float(n * rule["rotor_low_hz"][j]),
+                    excitation_high_hz=float(n * rule["rotor_high_hz"][j]),
                     lies_in="dwell" if in_dwell else "passage",
                     significance=significance,
                     significant=bool(significance >= significance_floor),

@@ -43,6 +43,7 @@ __all__ = [
     "margin_band",
     "throttle_window",
     "throttle_windows",
+    "windows_from_roots",
     "rotor_peak",
     "rotor_range_hz",
     "seen_interval",
@@ -167,6 +168,25 @@ def throttle_windows(band_lo_hz, band_hi_hz, order, v_oc, idle, throttle_max, dr
     up_b = throttle_at_rad_s(w_b, v_oc, **drive)
     down_a = throttle_fall_rad_s(w_a, v_oc, **drive)
     down_b = throttle_fall_rad_s(w_b, v_oc, **drive)
+    return windows_from_roots(up_a, up_b, down_a, down_b, idle, throttle_max)
+
+
+def windows_from_roots(up_a, up_b, down_a, down_b, idle, throttle_max):
+    """The rising and falling windows of :func:`throttle_windows` from the throttle roots of the band edges.
+
+    Parameters
+    ----------
+    up_a, up_b : float or array_like
+        Rising-side throttles of the band's low and high edge [fraction; ``inf`` above the peak].
+    down_a, down_b : float or array_like
+        Falling-side throttles of the same edges [fraction; ``inf`` where there is none].
+    idle, throttle_max : float
+        Throttle limits [fraction].
+
+    Returns
+    -------
+    (rise_low, rise_high, fall_low, fall_high)
+    """
     below = np.isfinite(up_b)
     rise_hi = np.where(below, up_b, down_a)
     fall_lo = np.where(below, down_b, np.inf)
@@ -297,7 +317,8 @@ def window_levels(low, high, order, v_oc, drive, peak, zone_lo, zone_hi, weight_
         ``in_dwell`` (bool), ``dwell_index`` (the zone with the largest
         significance), ``significance`` (in the dwell zone when it lies in
         one, else over the window), ``margin`` (smallest margin in that part
-        [fraction]), ``level`` (0, 1, 2).
+        [fraction]), ``level`` (0, 1, 2), and ``rotor_low_hz``/``rotor_high_hz``
+        (the rotor-rate range over the window).
     """
     low, high = np.asarray(low, dtype=float), np.asarray(high, dtype=float)
     some = low < high
@@ -305,31 +326,44 @@ def window_levels(low, high, order, v_oc, drive, peak, zone_lo, zone_hi, weight_
     def expand(x):
         return np.asarray(x, dtype=float)[..., None] if np.ndim(x) else x
 
-    d_x = {k: expand(v) for k, v in drive.items()}
-    pk = (expand(peak[0]), expand(peak[1]))
     ov_lo = np.maximum(low[..., None], zone_lo)
     ov_hi = np.minimum(high[..., None], zone_hi)
-    in_zone = some[..., None] & (ov_lo <= ov_hi)
+    shape = ov_lo.shape
+    n_z = shape[-1]
+    # one call of the drive model for every throttle needed: window ends, then overlap ends
+    throttles = np.concatenate([np.broadcast_to(low[..., None], shape[:-1] + (1,)),
+                                np.broadcast_to(high[..., None], shape[:-1] + (1,)), ov_lo, ov_hi], axis=-1)
     with np.errstate(invalid="ignore"):
-        r_lo, r_hi = rotor_range_hz(ov_lo, ov_hi, expand(v_oc), d_x, pk)
-        a, b = seen_interval(expand(order) * r_lo, expand(order) * r_hi, expand(alias_zone), sample_rate_hz)
-        fl, fh, z = expand(f_lo_hz), expand(f_hi_hz), expand(zeta)
+        rate = rotor_rad_s(throttles, expand(v_oc), **{k: expand(v) for k, v in drive.items()}) / TWO_PI
+    p_hz, p_d = expand(peak[0]), expand(peak[1])
+
+    def span(i_lo, i_hi, t_lo, t_hi):
+        a, b = rate[..., i_lo], rate[..., i_hi]
+        inside = (p_d >= t_lo) & (p_d <= t_hi)
+        return np.minimum(a, b), np.where(inside, p_hz, np.maximum(a, b))
+
+    in_zone = some[..., None] & (ov_lo <= ov_hi)
+    n_x, zone_x = expand(order), expand(alias_zone)
+    fl, fh, z = expand(f_lo_hz), expand(f_hi_hz), expand(zeta)
+    with np.errstate(invalid="ignore"):
+        r_lo, r_hi = span(slice(2, 2 + n_z), slice(2 + n_z, 2 + 2 * n_z), ov_lo, ov_hi)
+        a, b = seen_interval(n_x * r_lo, n_x * r_hi, zone_x, sample_rate_hz)
         sig_z = np.where(in_zone, expand(weight_seen) * peak_magnification(a, b, fl, fh, z), -np.inf)
         mar_z = np.where(in_zone, interval_margin(a, b, fl, fh), np.inf)
+        w_lo, w_hi = span(slice(0, 1), slice(1, 2), low[..., None], high[..., None])
+        a, b = seen_interval(n_x * w_lo, n_x * w_hi, zone_x, sample_rate_hz)
+        sig_win = (expand(weight_seen) * peak_magnification(a, b, fl, fh, z))[..., 0]
+        mar_win = interval_margin(a, b, fl, fh)[..., 0]
     best = np.argmax(sig_z, axis=-1)
     sig_dwell = np.take_along_axis(sig_z, best[..., None], axis=-1)[..., 0]
     mar_dwell = np.take_along_axis(mar_z, best[..., None], axis=-1)[..., 0]
     in_dwell = np.any(in_zone, axis=-1)
-    with np.errstate(invalid="ignore"):
-        r_lo, r_hi = rotor_range_hz(low, high, v_oc, drive, peak)
-        a, b = seen_interval(order * r_lo, order * r_hi, alias_zone, sample_rate_hz)
-        sig_win = weight_seen * peak_magnification(a, b, f_lo_hz, f_hi_hz, zeta)
-        mar_win = interval_margin(a, b, f_lo_hz, f_hi_hz)
     significance = np.where(in_dwell, sig_dwell, sig_win)
     strong = significance >= floor
     level = np.where(some, np.where(in_dwell, np.where(strong, 2, 1), np.where(strong, 1, 0)), 0)
     return {"in_dwell": in_dwell, "dwell_index": best, "significance": significance,
-            "margin": np.where(in_dwell, mar_dwell, mar_win), "level": level}
+            "margin": np.where(in_dwell, mar_dwell, mar_win), "level": level,
+            "rotor_low_hz": w_lo[..., 0], "rotor_high_hz": w_hi[..., 0]}
 
 
 def seen_weight(weight, gain):
