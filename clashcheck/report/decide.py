@@ -781,12 +781,8 @@ def image_reference(image_path: str | Path, report_path: str | Path | None) -> s
 
 
 def _assumption_lines(build, result) -> list[str]:
-    lines = [f"drive model: {result.model}"]
-    assumed = [mr.mode.name for mr in result.modes if mr.damping_assumed]
-    if assumed:
-        lines.append(f"damping assumed at ζ = {build.check.policy.default_damping:g} for: " + ", ".join(assumed))
-    else:
-        lines.append("damping: every mode has its own figure")
+    """What the check's own "Build and assumptions" section does not say (drive model and assumed damping are there)."""
+    lines = []
     estimated = [mr.mode.name for mr in result.modes if mr.mode.origin == "estimated"]
     lines.append("estimated modes (beam model): " + (", ".join(estimated) if estimated else "none"))
     hover = {b.hover.how for b in result.bands}
@@ -796,11 +792,11 @@ def _assumption_lines(build, result) -> list[str]:
 
 
 def render_check_report(build, result, suggestions, image_ref: str | None) -> str:
-    """One Markdown report: summary, assumptions, the check, the diagram, suggestions, safety.
+    """One Markdown report: the check, the parts, the diagram, suggestions, safety.
 
     The check's own Markdown (:func:`clashcheck.report.check.render_markdown`) is
-    kept whole; the summary, assumptions, diagram and suggestions go in as
-    its extra sections, before the safety section.
+    kept whole (with its build and assumptions); the parts, the diagram and
+    the suggestions go in as its extra sections, before the safety section.
 
     Parameters
     ----------
@@ -822,8 +818,7 @@ def render_check_report(build, result, suggestions, image_ref: str | None) -> st
 
     summary = tabulate(build_summary_rows(build), headers=["part", "as checked"], tablefmt="github")
     sections = [
-        "## Build summary\n\n" + summary,
-        "## Assumptions\n\n" + "\n".join(f"- {line}" for line in _assumption_lines(build, result)),
+        "## Parts\n\n" + summary + "\n\n" + "\n".join(f"- {line}" for line in _assumption_lines(build, result)),
     ]
     if image_ref is not None:
         sections.append(
