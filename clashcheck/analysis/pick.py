@@ -24,7 +24,8 @@ each candidate's tip mass (:mod:`clashcheck.shift`).
 Ranking (lexicographic, best first):
 
 1. the craft hovers at every pack state checked;
-2. the operating band is clear at every pack state (no clash window touches it);
+2. no clash at any pack state: no significant order within its margin in a dwell zone
+   (the verdict rule of :func:`clashcheck.analysis.windows.window_levels`);
 3. hover lies within the hover range (default 25 % to 50 %) at every pack
    state, which keeps headroom and throttle resolution;
 4. the *peak weighted response*, lower first: the largest order weight × the
@@ -483,7 +484,7 @@ class Scores:
 
     #: Hovers at every pack state (or hover unknown, band from idle).
     flies: np.ndarray
-    #: No clash window touches the operating band at any pack state.
+    #: No clash-level window (a significant order in a dwell zone) at any pack state.
     band_clear: np.ndarray
     #: Hover within the hover range at every pack state.
     hover_in_range: np.ndarray
@@ -494,7 +495,7 @@ class Scores:
     worst_margin: np.ndarray
     #: Hover throttle per pack state [fraction] (candidates × states; ``nan`` unknown, > 1 unreachable).
     hover_throttle: np.ndarray
-    #: Number of clash windows touching the operating band (direct and aliased).
+    #: Number of clash-level windows (significant, in a dwell zone; direct and aliased).
     clash_count: np.ndarray
     #: All-up mass [kg].
     mass_kg: np.ndarray
