@@ -425,7 +425,8 @@ def search_space(
         notes.append("pinned: " + ", ".join(pins))
     if cells and cell_mass_kg is None:
         notes.append("the all-up mass is held when the cell count changes (no --cell-mass given)")
-    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, tuple(hover_range), cell_mass_kg, tuple(notes))
+    low_h, high_h = hover_range
+    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, (low_h, high_h), cell_mass_kg, tuple(notes))
 
 
 # ---------------------------------------------------------------------------
@@ -571,7 +572,6 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
     rho = build.density_kg_m3()
     volts = np.array([build.pack.chemistry.cell_voltage(s) for s in states])
     modes = build.modes
-    f_nom0 = np.array([m.frequency_hz for m in modes])
     f_lo0 = np.array([m.frequency_low_hz for m in modes])
     f_hi0 = np.array([m.frequency_high_hz for m in modes])
     zeta_known = np.array([m.damping is not None for m in modes])
@@ -654,8 +654,6 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         present = ax.order_present[ax.combo[sl]]        # (c, K): False where a row is padded
         p4 = present[:, None, None, :]
         o4 = order[:, None, None, :]
-        bl4 = band_lo[:, :, None, None]
-        bh4 = band_hi[:, :, None, None]
         fly4 = flies_s[:, :, None, None]
 
         # dwell zones per (candidate, state), as clash.operating_bands: (c, S, Z)
@@ -788,7 +786,6 @@ def _aliased(sensor, floor, order, weight, present, top_rotor, x_lo, x_hi, band_
     dw_hi = np.where(any_zone[:, :, None], order[:, None, :] * r_b[:, :, 0, :], -np.inf)
     x_lo_r = np.fmin(np.where(np.isfinite(x_lo), x_lo, np.inf), dw_lo)
     x_hi_r = np.fmax(np.where(np.isfinite(x_hi), x_hi, -np.inf), dw_hi)
-    n_modes = f_lo.shape[1]
     touch_count = np.zeros(c, dtype=np.int64)
     response = np.full(c, -np.inf)
     response_at = np.zeros((c, 4), dtype=np.int64)

@@ -231,7 +231,8 @@ def _parse_battery(raw: dict[str, Any]) -> Pack:
         src, key, at = (raw, own_key, where) if own_key in raw else (base, state, f"batteries[{chem_id}]")
         volts[state] = f.quantity(src, key, at, "V", "3.7 V", required=True, minimum=0.5, maximum=10.0,
                                   range_text="from 0.5 V to 10 V")
-    if not volts["empty"] < volts["nominal"] < volts["full"]:
+    v_empty, v_nominal, v_full = (volts[k] or 0.0 for k in ("empty", "nominal", "full"))  # required above
+    if not v_empty < v_nominal < v_full:
         raise InputError("battery", "cell voltages with empty < nominal < full",
                          f"{volts['empty']:g} / {volts['nominal']:g} / {volts['full']:g} V")
     resistance = f.quantity(raw, "cell_resistance", where, "ohm", "3 mohm", default=0.0, minimum=0.0,
