@@ -747,7 +747,6 @@ def analyse(
                 f"hover ({100 * b.hover.throttle:.0f} %) sits above cruise ({100 * cruise:.0f} %) "
                 f"at the {b.pack_state} pack"
             )
-    params = drive.parameters.as_kwargs()
     for state in pack_states:  # past the pack's maximum-power point the rate falls with throttle
         peak_hz, peak_d = _peak(drive, state)
         if idle < peak_d < throttle_max:

@@ -24,7 +24,8 @@ each candidate's tip mass (:mod:`clashcheck.shift`).
 Ranking (lexicographic, best first):
 
 1. the craft hovers at every pack state checked;
-2. the operating band is clear at every pack state (no clash window touches it);
+2. no clash at any pack state: no significant order within its margin in a dwell zone
+   (the verdict rule of :func:`clashcheck.analysis.windows.window_levels`);
 3. hover lies within the hover range (default 25 % to 50 %) at every pack
    state, which keeps headroom and throttle resolution;
 4. the *peak weighted response*, lower first: the largest order weight × the
@@ -497,7 +498,7 @@ class Scores:
 
     #: Hovers at every pack state (or hover unknown, band from idle).
     flies: np.ndarray
-    #: No clash window touches the operating band at any pack state.
+    #: No clash-level window (a significant order in a dwell zone) at any pack state.
     band_clear: np.ndarray
     #: Hover within the hover range at every pack state.
     hover_in_range: np.ndarray
@@ -508,7 +509,7 @@ class Scores:
     worst_margin: np.ndarray
     #: Hover throttle per pack state [fraction] (candidates × states; ``nan`` unknown, > 1 unreachable).
     hover_throttle: np.ndarray
-    #: Number of clash windows touching the operating band (direct and aliased).
+    #: Number of clash-level windows (significant, in a dwell zone; direct and aliased).
     clash_count: np.ndarray
     #: All-up mass [kg].
     mass_kg: np.ndarray
@@ -584,7 +585,6 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
     rho = build.density_kg_m3()
     volts = np.array([build.pack.chemistry.cell_voltage(s) for s in states])
     modes = build.modes
-    f_nom0 = np.array([m.frequency_hz for m in modes])
     f_lo0 = np.array([m.frequency_low_hz for m in modes])
     f_hi0 = np.array([m.frequency_high_hz for m in modes])
     zeta_known = np.array([m.damping is not None for m in modes])
@@ -667,8 +667,6 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         present = ax.order_present[ax.combo[sl]]        # (c, K): False where a row is padded
         p4 = present[:, None, None, :]
         o4 = order[:, None, None, :]
-        bl4 = band_lo[:, :, None, None]
-        bh4 = band_hi[:, :, None, None]
         fly4 = flies_s[:, :, None, None]
 
         # dwell zones per (candidate, state), as clash.operating_bands: (c, S, Z)
@@ -801,7 +799,6 @@ def _aliased(sensor, floor, order, weight, present, top_rotor, x_lo, x_hi, band_
     dw_hi = np.where(any_zone[:, :, None], order[:, None, :] * r_b[:, :, 0, :], -np.inf)
     x_lo_r = np.fmin(np.where(np.isfinite(x_lo), x_lo, np.inf), dw_lo)
     x_hi_r = np.fmax(np.where(np.isfinite(x_hi), x_hi, -np.inf), dw_hi)
-    n_modes = f_lo.shape[1]
     touch_count = np.zeros(c, dtype=np.int64)
     response = np.full(c, -np.inf)
     response_at = np.zeros((c, 4), dtype=np.int64)

@@ -236,7 +236,7 @@ class Build:
         names = {m.name for m in measured.modes}
         modes = tuple(m for m in self.modes if m.name not in names) + measured.modes
         strengths = measured.order_strengths or self.check.order_strengths
-        notes = (f"{len(measured.modes)} measured mode(s) merged from {measured.path}",)
+        notes: tuple[str, ...] = (f"{len(measured.modes)} measured mode(s) merged from {measured.path}",)
         flight = self.flight
         if measured.occupancy is not None:
             flight = replace(flight, occupancy=measured.occupancy)

@@ -362,8 +362,8 @@ def _dwell_text(result: ClashResult) -> str:
     if not flying:
         return "none (the craft flies at no pack state checked)"
     if result.dwell_source == "measured":
-        spans = ", ".join(_span(lo, hi) for _w, lo, hi in flying[0].dwell)
-        return f"measured throttle occupancy: {spans}"
+        measured = ", ".join(_span(lo, hi) for _w, lo, hi in flying[0].dwell)
+        return f"measured throttle occupancy: {measured}"
     parts = []
     for what in ("hover", "cruise", "operating band"):
         spans = [(st, lo, hi) for st, zs in zones.items() for w, lo, hi in zs if w == what]
