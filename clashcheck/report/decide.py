@@ -558,7 +558,7 @@ def _pick_rows(res) -> list[list[str]]:
     for p in res.top:
         hov = [h for h in p.hover.values()]
         span = "-" if not hov else f"{pct(min(hov))}–{pct(max(hov))}"
-        band = "clear" if p.band_clear else ("no hover" if not p.flies else f"{p.clash_count} clash")
+        band = "none" if p.band_clear else ("no hover" if not p.flies else f"{p.clash_count}")
         rows.append([p.rank, p.label, band, span + ("" if p.hover_in_range else " (!)"),
                      f"{p.response:.2f}", f"{pct(p.worst_margin, 1)}", p.result.verdict])
     return rows
@@ -585,7 +585,7 @@ def render_pick(res, fmt: str) -> str:
     doc.title(f"Pick: {res.name}")
     doc.para(f"{res.searched} candidates searched; {res.clear_count} have no clash at any pack state "
              "(no significant order in a dwell zone, hover everywhere).")
-    doc.table(_pick_rows(res), ["rank", "candidate", "band", "hover", "peak response", "worst margin", "check"])
+    doc.table(_pick_rows(res), ["rank", "candidate", "clash windows", "hover", "peak response", "worst margin", "check"])
     doc.para(f"Ranked by: hovers at every pack state; no clash window; hover within "
              f"{100 * low:.0f}–{100 * high:.0f} % at every pack state (else marked (!)); then the lowest peak "
              "weighted response (order weight × single-degree-of-freedom magnification over the operating band).")
