@@ -407,9 +407,9 @@ def _min_margin(intervals: list[tuple[float, float]], mode: Mode) -> float:
 
 
 @functools.lru_cache(maxsize=256)
-def _peak(drive: Drive, state: str) -> tuple[float, float]:
-    """Peak rotor rate [Hz] and its throttle at one pack state (cached: one eigenproblem per drive)."""
-    peak_hz, peak_d = rotor_peak(drive.pack.voltage(state), drive.parameters.as_kwargs())
+def _peak(drive: Drive, state: str, throttle_max: float) -> tuple[float, float]:
+    """Peak rotor rate [Hz] and its throttle below ``throttle_max`` at one pack state (``inf`` without one; cached)."""
+    peak_hz, peak_d = rotor_peak(drive.pack.voltage(state), drive.parameters.as_kwargs(), throttle_max)
     return float(peak_hz), float(peak_d)
 
 
@@ -463,7 +463,7 @@ def find_windows(
     n = order.order
     params = drive.parameters.as_kwargs()
     v_oc = drive.pack.voltage(state)
-    peak = _peak(drive, state)
+    peak = _peak(drive, state, throttle_max)
     top_rotor_hz = float(rotor_range_hz(idle, throttle_max, v_oc, params, peak)[1])
 
     # (zone, true band low, true band high, true frequency at the mode's nominal)
@@ -748,7 +748,7 @@ def analyse(
                 f"at the {b.pack_state} pack"
             )
     for state in pack_states:  # past the pack's maximum-power point the rate falls with throttle
-        peak_hz, peak_d = _peak(drive, state)
+        peak_hz, peak_d = _peak(drive, state, throttle_max)
         if idle < peak_d < throttle_max:
             found_notes.append(
                 f"at the {state} pack the rotor rate peaks at {float(peak_hz):.1f} Hz near "

@@ -671,7 +671,7 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
 
         # dwell zones per (candidate, state), as clash.operating_bands: (c, S, Z)
         zone_lo, zone_hi = _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi)
-        peak = rotor_peak(v, drive)                                   # (c, S, 1, 1) each
+        peak = rotor_peak(v, drive, fl.max)                           # (c, S, 1, 1) each
 
         # direct windows, as clash.find_windows: band edges → throttle on both sides of any
         # rotor-rate peak, clipped to [idle, max]; a clash is a significant window in a dwell zone
@@ -679,10 +679,10 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         clash_count = np.zeros(c, dtype=np.int64)
         for low, high in _pairs(throttle_windows(band_f_lo[:, None, :, None], band_f_hi[:, None, :, None], o4,
                                                  v, fl.idle, fl.max, drive)):
-            rule = window_levels(low, high, o4, v, drive, peak, zone_lo[:, :, None, None, :],
-                                 zone_hi[:, :, None, None, :], weight[:, None, None, :], f_lo[:, None, :, None],
-                                 f_hi[:, None, :, None], zeta[:, None, :, None], sig_floor)
-            clash_count += (ok & (rule["level"] == 2)).sum(axis=(1, 2, 3))
+            clash_count += _clash_count(ok & (low < high), low, high, o4, v, drive, peak,
+                                        zone_lo[:, :, None, None, :], zone_hi[:, :, None, None, :],
+                                        weight[:, None, None, :], f_lo[:, None, :, None], f_hi[:, None, :, None],
+                                        zeta[:, None, :, None], sig_floor, c)
 
         # excitation over the operating band (true frequency) and its peak response
         rotor_lo = rotor_rad_s(band_lo[:, :, None, None], v, **drive) / TWO_PI
@@ -736,6 +736,26 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         clash_count=out["clash_count"], mass_kg=mass, mode_ratio=ratio,
         response_at=response_at, margin_at=margin_at, pack_states=states,
     )
+
+
+def _clash_count(mask, low, high, order, v, drive, peak, zone_lo, zone_hi, weight, f_lo, f_hi, zeta, sig_floor,
+                 n_candidates):
+    """Clash-level windows per candidate, by :func:`~clashcheck.analysis.windows.window_levels` on the
+    windows that exist only (``mask``, candidate axis first); the other arguments broadcast with ``low``."""
+    idx = np.nonzero(mask)
+    if idx[0].size == 0:
+        return np.zeros(n_candidates, dtype=np.int64)
+    shape = mask.shape
+
+    def pick_out(x):
+        return np.broadcast_to(np.asarray(x, dtype=float), shape)[idx] if np.ndim(x) else x
+
+    zshape = shape + (np.shape(zone_lo)[-1],)
+    rule = window_levels(pick_out(low), pick_out(high), pick_out(order), pick_out(v),
+                         {k: pick_out(x) for k, x in drive.items()}, (pick_out(peak[0]), pick_out(peak[1])),
+                         np.broadcast_to(zone_lo, zshape)[idx], np.broadcast_to(zone_hi, zshape)[idx],
+                         pick_out(weight), pick_out(f_lo), pick_out(f_hi), pick_out(zeta), sig_floor)
+    return np.bincount(idx[0][rule["level"] == 2], minlength=n_candidates).astype(np.int64)
 
 
 def _pairs(windows):
