@@ -312,17 +312,18 @@ def test_cli_pick_json_and_errors(tmp_path):
 # --- the top candidate written out as a build ------------------------------------------
 
 
-def test_write_build_gives_the_verdict_pick_scored(tmp_path):
+@pytest.mark.parametrize("example", ["freestyle-5in", "ducted-3in"])
+def test_write_build_gives_the_verdict_pick_scored(tmp_path, example):
     import json
 
     from clashcheck.inputs.buildfile import load_build
 
-    demo = Path(__file__).resolve().parent.parent / "examples" / "freestyle-5in.toml"
+    demo = Path(__file__).resolve().parent.parent / "examples" / f"{example}.toml"
     out = tmp_path / "best.toml"
     runner = CliRunner()
-    res = runner.invoke(main, ["pick", str(demo), "--top", "3", "--format", "json", "--write-build", str(out)])
-    assert res.exit_code in (0, 1), res.output
-    data = json.loads(res.stdout)
+    picked = runner.invoke(main, ["pick", str(demo), "--top", "3", "--format", "json", "--write-build", str(out)])
+    assert picked.exit_code in (0, 1), picked.output
+    data = json.loads(picked.stdout)
     top = data["top"][0]
     written = load_build(out)
     check = check_build(written)
@@ -330,6 +331,10 @@ def test_write_build_gives_the_verdict_pick_scored(tmp_path):
     assert {mr.mode.name: mr.verdict for mr in check.modes} == {m["name"]: m["verdict"] for m in top["modes"]}
     assert written.mass_kg == pytest.approx(top["mass_kg"], rel=1e-12)
     assert written.pack.cells == top["cells"]
+    # pick's "no clash" flag is check's verdict, and pick exits 0 exactly when its top has no clash
+    assert top["band_clear"] is (check.verdict != "clash")
+    assert (data["clear_count"] > 0) is top["band_clear"]
+    assert picked.exit_code == (0 if top["band_clear"] else 1)
     # the check command on the written file exits as its verdict says
     res = runner.invoke(main, ["check", str(out)])
     assert res.exit_code == (1 if check.verdict == "clash" else 0)
