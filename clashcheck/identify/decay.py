@@ -51,9 +51,15 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+from typing import TYPE_CHECKING
 
 import numpy as np
+
+from ..model.amplitude import damping_at_amplitude
+
+if TYPE_CHECKING:
+    from .result import ModesResult
 
 __all__ = [
     "AmplitudeDamping",
@@ -70,6 +76,7 @@ __all__ = [
     "analyse_mode_decay",
     "analyse_decays",
     "damping_at",
+    "with_amplitude_damping",
 ]
 
 #: Classes of decay.
@@ -183,7 +190,7 @@ class AmplitudeDamping:
 
 
 def damping_at(viscous_damping: float, friction_drop_per_cycle: float, amplitude: float) -> float:
-    """ζ(A) = ζ_v + D/(2πA) of a friction-plus-viscous mode.
+    """ζ(A) = ζ_v + D/(2πA) of a friction-plus-viscous mode (see :func:`~clashcheck.model.amplitude.damping_at_amplitude`).
 
     Parameters
     ----------
@@ -198,13 +205,8 @@ def damping_at(viscous_damping: float, friction_drop_per_cycle: float, amplitude
     -------
     float
         Equivalent damping ratio at that amplitude.
-
-    Examples
-    --------
-    >>> round(damping_at(0.01, 0.2 * 3.141592653589793, 10.0), 6)
-    0.02
     """
-    return float(viscous_damping + friction_drop_per_cycle / (2.0 * math.pi * amplitude))
+    return damping_at_amplitude(viscous_damping, friction_drop_per_cycle, amplitude)
 
 
 def _blocks_per(freq_hz: float, bandwidth_hz: float) -> int:
@@ -283,7 +285,7 @@ def cycle_envelopes(segments: np.ndarray, sample_rate_hz: float, freq_hz: float,
     if noise is None and last > first:  # no quiet lead-in: judge the noise from the tails
         tail = env[:, last - (last - first) // 4:last]
         limit = NOISE_FACTOR * float(np.min(np.median(tail, axis=1)))
-    out = []
+    out: list[tuple[np.ndarray, np.ndarray]] = []
     if last - first < per * cycle * MIN_BLOCKS:
         return out, freq_hz, noise_rms
     nblk = int((last - first) / (per * cycle))
@@ -633,3 +635,52 @@ def analyse_decays(signal_x: np.ndarray, sample_rate_hz: float, onsets: Sequence
         except (ValueError, np.linalg.LinAlgError):
             out.append(None)
     return out
+
+
+def with_amplitude_damping(result: "ModesResult", signal_x: np.ndarray, onsets: Sequence[int],
+                           pre: int = 0) -> "ModesResult":
+    """``result`` with each mode's damping against amplitude attached (tap tests).
+
+    Called at the end of the tap analysis with the recording and the impacts it
+    used.  Modes whose decay could not be followed keep ``amplitude_damping``
+    at ``None``.  A warning is added when the taps were too alike, or the
+    amplitude span too narrow, to tell the damping models apart.
+
+    Parameters
+    ----------
+    result : ModesResult
+        The tap analysis result.
+    signal_x : ndarray, shape (samples,) or (samples, channels)
+        The analysed recording [signal units].
+    onsets : sequence of int
+        Impact samples used by the analysis.
+    pre : int
+        Samples kept before each onset.
+
+    Returns
+    -------
+    ModesResult
+    """
+    if not result.modes:
+        return result
+    found = analyse_decays(signal_x, result.sample_rate_hz, onsets,
+                           [m.frequency_hz for m in result.modes], pre)
+    modes = tuple(replace(m, amplitude_damping=a) for m, a in zip(result.modes, found))
+    warnings = list(result.warnings)
+    missing = [m.name for m, a in zip(modes, found) if a is None]
+    if missing:
+        warnings.append("damping against amplitude not measured for " + ", ".join(missing)
+                        + ": no free decay long enough to follow once band-passed (a neighbouring "
+                        "mode too close for the mode's own bandwidth, heavy damping, or taps too close)")
+    for m, a in zip(modes, found):
+        if a is None:
+            continue
+        if a.taps_alike:
+            warnings.append(f"{m.name}: the {a.taps} taps started within a factor "
+                            f"{a.tap_amplitudes[0] / a.tap_amplitudes[-1]:.2g} of each other; tap "
+                            "softly and firmly to widen the amplitude range")
+        if a.span_too_narrow:
+            warnings.append(f"{m.name}: the decay spans only {a.amplitude_low:.3g} to "
+                            f"{a.amplitude_high:.3g} (×{a.amplitude_high / a.amplitude_low:.2g}); "
+                            "too narrow to tell viscous from friction damping with confidence")
+    return replace(result, modes=modes, warnings=tuple(warnings))
