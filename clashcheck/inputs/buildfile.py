@@ -184,6 +184,11 @@ def _amplitude_damping(raw: dict[str, Any], where: str, details: dict[str, objec
                               drop or 0.0, amp["amplitude_low_rec"] or 0.0, amp["amplitude_high_rec"] or 0.0,
                               zeta["damping_at_amplitude_low"] or 0.0, zeta["damping_at_amplitude_high"] or 0.0)
     details.update(amplitude=dep, damping_single=damping)
+    for key in ("viscous_damping_low", "viscous_damping_high"):
+        details[key] = f.ratio(raw, key, where, low=0.0, high=1.0, open_low=False, what="a damping ratio")
+    for key in ("friction_drop_per_cycle_low", "friction_drop_per_cycle_high"):
+        details[key] = f.ratio(raw, key, where, low=0.0, high=math.inf, open_low=False,
+                               what="an amplitude drop in the recording's units")
     if op is not None:
         used, basis, at = dep.damping(op), "operating amplitude", op
     else:

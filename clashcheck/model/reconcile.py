@@ -128,7 +128,7 @@ def _merged(build: Mode, measured: Mode) -> Mode:
 
 
 def reconcile(build_modes: tuple[Mode, ...] | list[Mode], measured_modes: tuple[Mode, ...] | list[Mode],
-              tolerance: float = FREQUENCY_TOLERANCE) -> Reconciliation:
+              tolerance: float = FREQUENCY_TOLERANCE, by_name: bool = True) -> Reconciliation:
     """Put measured modes in the place of the build modes they measure.
 
     Parameters
@@ -139,6 +139,9 @@ def reconcile(build_modes: tuple[Mode, ...] | list[Mode], measured_modes: tuple[
         Modes from a modes file.
     tolerance : float
         Largest relative frequency difference for a match [fraction].
+    by_name : bool
+        Match equal names first (step 1); off when both lists are measured and
+        named only by their rank (``mode 1``, ``mode 2``, ...).
 
     Returns
     -------
@@ -153,11 +156,11 @@ def reconcile(build_modes: tuple[Mode, ...] | list[Mode], measured_modes: tuple[
     """
     build = list(build_modes)
     meas = list(measured_modes)
-    by_name = {m.name: i for i, m in enumerate(build)}
+    names = {m.name: i for i, m in enumerate(build)}
     pair: dict[int, int] = {}  # measured index → build index
     how: dict[int, tuple[str, float]] = {}
     for j, m in enumerate(meas):
-        i = by_name.get(m.name)
+        i = names.get(m.name) if by_name else None
         if i is not None:
             pair[j] = i
             how[j] = ("name", (m.frequency_hz - build[i].frequency_hz) / build[i].frequency_hz)
