@@ -677,7 +677,7 @@ def with_amplitude_damping(result: "ModesResult", signal_x: np.ndarray, onsets: 
             continue
         if a.taps_alike:
             warnings.append(f"{m.name}: the {a.taps} taps started within a factor "
-                            f"{a.tap_amplitudes[0] / a.tap_amplitudes[-1]:.2g} of each other; tap "
+                            f"{a.tap_amplitudes[0] / a.tap_amplitudes[-1]:.2f} of each other; tap "
                             "softly and firmly to widen the amplitude range")
         if a.span_too_narrow:
             warnings.append(f"{m.name}: the decay spans only {a.amplitude_low:.3g} to "

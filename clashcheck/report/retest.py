@@ -108,15 +108,17 @@ def render_retest(result: RetestResult, fmt: str = "table") -> str:
                 f"{m.before_name} / {m.after_name}",
                 f"{m.frequency_hz.before:.1f} → {m.frequency_hz.after:.1f} ({m.frequency_hz.change:+.1f})",
                 decay, _fmt(m.viscous_damping, ".4f"), _fmt(m.friction_drop_per_cycle, ".3g"),
-                _fmt(m.damping, ".4f"), "WORSE" if m.worse else ("better" if m.damping.significant else "same"),
+                _fmt(m.damping, ".4f"),
+                f"amplitude {m.amplitude_rec:.3g}" if m.amplitude_rec is not None else m.basis,
+                "WORSE" if m.worse else ("better" if m.damping.significant else "same"),
             ])
         lines.append(tabulate(rows, headers=["mode (before / after)", "f (Hz)", "decay", "ζ viscous",
-                                             "friction drop/cycle", "ζ compared", "damping"],
+                                             "friction drop/cycle", "ζ compared", "compared at", "damping"],
                               tablefmt="simple", disable_numparse=True))
         lines.append("")
-        lines.append("ζ compared: " + "; ".join(
-            sorted({m.basis + (f" {m.amplitude_rec:.3g}" if m.amplitude_rec is not None else "")
-                    for m in result.modes})) + ". Changes are after − before ± the 95 % uncertainty.")
+        lines.append("Changes are after − before ± the 95 % uncertainty of the difference. With damping "
+                     "against amplitude in both files, ζ is compared at the end of the amplitude range both "
+                     "taps covered where it fell most (recording units).")
     else:
         lines.append("no mode was found in both tests")
     if result.only_before:
