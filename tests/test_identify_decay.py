@@ -9,6 +9,7 @@ hum and 16-bit-like quantisation.
 from __future__ import annotations
 
 import importlib.util
+import json
 import math
 from pathlib import Path
 
@@ -157,3 +158,54 @@ def test_damping_at_equivalent_ratio():
     assert damping_at(0.0, 4 * fk, a) == pytest.approx(2 * fk / (math.pi * a))
     with pytest.raises(ZeroDivisionError):
         damping_at(0.0, 0.1, 0.0)
+
+
+def test_tap_analysis_carries_damping_against_amplitude(tmp_path):
+    # derived: four plucks of a friction + viscous mode (graded strengths) and a viscous mode,
+    # written as .npy at 8 kHz, through the whole tap analysis, the modes file and back
+    from clashcheck.identify import Columns, analyse_tap, open_recording
+    from clashcheck.inputs.buildfile import load_modes_file
+    from clashcheck.report.modes import render_json, render_table, render_toml
+
+    rng = np.random.default_rng(5)
+    parts = [np.zeros(4000)]
+    for scale in (1.0, 0.7, 0.45, 0.3):
+        fr = halfcycle_decay(160.0, 0.003, 1e-3 / 600, scale * 1e-3, FS, 0.8)[0]
+        vi = halfcycle_decay(410.0, 0.01, 0.0, scale * 2e-4, FS, 0.8)[0]
+        parts.append(fr + vi)
+    x = np.concatenate(parts)
+    x = x + rng.standard_normal(x.size) * np.abs(x).max() / 10 ** (40 / 20)
+    path = tmp_path / "tap.npy"
+    np.save(path, x[:, None])
+    result = analyse_tap(open_recording(path, Columns(sample_rate_hz=FS)))
+    by_f = {round(m.frequency_hz / 10): m for m in result.modes}
+    friction, viscous = by_f[16], by_f[41]
+    assert friction.amplitude_damping.decay in ("friction", "mixed")
+    assert viscous.amplitude_damping.decay == "viscous"
+    assert friction.amplitude_damping.taps >= 3 and not friction.amplitude_damping.taps_alike
+    data = json.loads(render_json(result))
+    assert {"decay", "viscous_damping", "friction_drop_per_cycle", "amplitude_low_rec",
+            "damping_at_amplitude_high"} <= set(data["modes"][0])
+    assert "damping against amplitude" in render_table(result)
+    modes_file = tmp_path / "m.toml"
+    modes_file.write_text(render_toml(result), encoding="utf-8")
+    mm = {round(m.frequency_hz / 10): m for m in load_modes_file(modes_file).modes}
+    # check uses the lowest ζ over the measured range: the top of the range for friction
+    assert mm[16].damping == pytest.approx(friction.amplitude_damping.damping_at_amplitude_high, rel=1e-4)
+    assert mm[16].details["damping_basis"] == "lowest over the measured range"
+
+
+def test_synth_friction_mode():
+    # the synthetic recorder's friction term (demo data): its envelope is linear plus exponential
+    from clashcheck.identify.synth import SynthMode, tap_signal
+
+    with pytest.raises(ValueError, match="friction_per_cycle"):
+        SynthMode(150.0, 0.01, (1.0,), friction_per_cycle=1.5)
+    x = tap_signal([SynthMode(150.0, 0.004, (1.0,), friction_per_cycle=0.01)], FS, impacts=1,
+                   interval_s=1.2, noise_rms=1e-5, amplitude=0.5, strengths=(1.0,), seed=1)[:, 0]
+    onset = int(np.argmax(np.abs(x) > 0.01))
+    r = analyse_decays(x, FS, [onset], [150.0], pre=8)[0]
+    assert r.decay == "mixed"
+    assert r.viscous_damping == pytest.approx(0.004, rel=0.1)
+    # derived: D = 0.01 × the tap's starting amplitude (about the recording's peak)
+    assert r.friction_drop_per_cycle / np.abs(x).max() == pytest.approx(0.01, rel=0.1)
