@@ -595,7 +595,7 @@ def _bands(freqs_hz: Sequence[float], nyquist_hz: float) -> list[tuple[float, fl
     return bands
 
 
-def analyse_decays(signal_x: np.ndarray, sample_rate_hz: float, onsets: Sequence[int],
+def analyse_decays(signal_x: np.ndarray, sample_rate_hz: float, onsets: Sequence[int] | np.ndarray,
                    freqs_hz: Sequence[float], pre: int = 0) -> list[AmplitudeDamping | None]:
     """Damping against amplitude of every mode of a tap recording.
 
@@ -637,7 +637,7 @@ def analyse_decays(signal_x: np.ndarray, sample_rate_hz: float, onsets: Sequence
     return out
 
 
-def with_amplitude_damping(result: "ModesResult", signal_x: np.ndarray, onsets: Sequence[int],
+def with_amplitude_damping(result: "ModesResult", signal_x: np.ndarray, onsets: Sequence[int] | np.ndarray,
                            pre: int = 0) -> "ModesResult":
     """``result`` with each mode's damping against amplitude attached (tap tests).
 

@@ -352,7 +352,7 @@ def write_tap_wav(path: str | os.PathLike[str], samples: np.ndarray, sample_rate
     from scipy.io import wavfile
 
     data = np.clip(np.round(np.asarray(samples) * 32768.0), -32768, 32767).astype(np.int16)
-    with atomic_file(path) as fh:
+    with atomic_file(os.fspath(path)) as fh:
         wavfile.write(fh, int(round(sample_rate_hz)), data)
 
 
@@ -379,7 +379,7 @@ def write_flight_csv(
         names.append(throttle_column)
     if rpm_column:
         names.append(rpm_column)
-    with atomic_file(path) as raw, io.TextIOWrapper(raw, encoding="utf-8", newline="\n") as fh:
+    with atomic_file(os.fspath(path)) as raw, io.TextIOWrapper(raw, encoding="utf-8", newline="\n") as fh:
         fh.write(",".join(names) + "\n")
         for blk in blocks:
             cols, fmts = [], []
