@@ -177,7 +177,7 @@ def _amplitude_notes(modes: tuple[Mode, ...], policy: MarginPolicy) -> list[str]
     for m in modes:
         basis = m.details.get("damping_basis")
         dep = m.details.get("amplitude")
-        if basis is None or m.damping is None or dep is None:
+        if basis is None or m.damping is None or dep is None or getattr(dep, "decay", "") == "viscous":
             continue
         at = m.details.get("damping_amplitude_rec")
         single = m.details.get("damping_single")
@@ -193,8 +193,13 @@ def _amplitude_notes(modes: tuple[Mode, ...], policy: MarginPolicy) -> list[str]
             if m.damping < 0.7 * single:
                 old_sm, new_sm = policy.margin_for_damping(single), policy.margin_for_damping(m.damping)
                 text += (f". The lower damping raises the amplification factor from {1 / (2 * single):.0f} "
-                         f"to {1 / (2 * m.damping):.0f}, so the required margin grows from "
-                         f"{100 * float(old_sm):.1f} % to {100 * float(new_sm):.1f} %")
+                         f"to {1 / (2 * m.damping):.0f}")
+                if float(new_sm) > float(old_sm) + 1e-4:
+                    text += (f", so the required margin grows from {100 * float(old_sm):.1f} % "
+                             f"to {100 * float(new_sm):.1f} %")
+                else:
+                    text += (f"; the required margin stays at {100 * float(new_sm):.1f} % (the policy's "
+                             "largest), but a crossing rings higher")
         if basis != "operating amplitude":
             text += "; set operating_amplitude_rec in the modes file to use the damping at the amplitude seen in flight"
         out.append(text)
