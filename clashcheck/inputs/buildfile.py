@@ -36,6 +36,7 @@ __all__ = [
     "parse_mode",
     "parse_motor",
     "parse_prop",
+    "parse_pack_chemistry",
     "MAX_FILE_BYTES",
 ]
 
@@ -281,27 +282,55 @@ def parse_prop(raw: dict[str, Any]) -> Propeller:
     return Propeller(diameter, blades, ct, cp, pitch, mass)
 
 
+def parse_pack_chemistry(chem_id: str, raw: dict[str, Any] | None = None,
+                         where: str = "battery") -> tuple[Chemistry, float | None]:
+    """A catalog chemistry, with any per-cell voltages the build overrides.
+
+    Parameters
+    ----------
+    chem_id : str
+        Chemistry id in the batteries catalog, e.g. ``lipo``.
+    raw : dict, optional
+        The build's ``[battery]`` table; its ``cell_full``, ``cell_nominal``
+        and ``cell_empty`` override the catalog's voltages.
+    where : str, optional
+        Field path of ``raw``, for error messages.
+
+    Returns
+    -------
+    tuple of (Chemistry, float or None)
+        The chemistry, and the catalog's typical cell resistance [ohm] when it gives one.
+    """
+    raw = raw or {}
+    base = entry("batteries", chem_id, f"{where}.chemistry")
+    at_base = f"batteries[{chem_id}]"
+    f.check_keys(base, _CHEMISTRY_KEYS, at_base)
+    volts: dict[str, float] = {}
+    for state in PACK_STATES:
+        own_key = f"cell_{state}"
+        src, key, at = (raw, own_key, where) if own_key in raw else (base, state, at_base)
+        value = f.quantity(src, key, at, "V", "3.7 V", required=True, minimum=0.5, maximum=10.0,
+                           range_text="from 0.5 V to 10 V")
+        assert value is not None  # required=True
+        volts[state] = value
+    if not volts["empty"] < volts["nominal"] < volts["full"]:
+        raise InputError(where, "cell voltages with empty < nominal < full",
+                         f"{volts['empty']:g} / {volts['nominal']:g} / {volts['full']:g} V")
+    typical = f.quantity(base, "typical_cell_resistance", at_base, "ohm", "3 mohm", minimum=0.0,
+                         maximum=10.0, range_text="from 0 ohm to 10 ohm")
+    chemistry = Chemistry(chem_id, volts["full"], volts["nominal"], volts["empty"], str(base.get("source", "")))
+    return chemistry, typical
+
+
 def _parse_battery(raw: dict[str, Any]) -> Pack:
     where = "battery"
     f.check_keys(raw, _BATTERY_KEYS, where)
     cells = f.count(raw, "cells", where, minimum=1, maximum=24, required=True, what="a cell count")
     chem_id = f.text(raw, "chemistry", where, default="lipo")
-    base = entry("batteries", chem_id, "battery.chemistry")
-    f.check_keys(base, _CHEMISTRY_KEYS, f"batteries[{chem_id}]")
-    volts = {}
-    for state in PACK_STATES:
-        own_key = f"cell_{state}"
-        src, key, at = (raw, own_key, where) if own_key in raw else (base, state, f"batteries[{chem_id}]")
-        volts[state] = f.quantity(src, key, at, "V", "3.7 V", required=True, minimum=0.5, maximum=10.0,
-                                  range_text="from 0.5 V to 10 V")
-    if not volts["empty"] < volts["nominal"] < volts["full"]:
-        raise InputError("battery", "cell voltages with empty < nominal < full",
-                         f"{volts['empty']:g} / {volts['nominal']:g} / {volts['full']:g} V")
+    assert cells is not None and chem_id is not None
+    chemistry, _ = parse_pack_chemistry(chem_id, raw, where)
     resistance = f.quantity(raw, "cell_resistance", where, "ohm", "3 mohm", default=0.0, minimum=0.0,
                             maximum=10.0, range_text="from 0 ohm to 10 ohm")
-    assert cells is not None and chem_id is not None
-    chemistry = Chemistry(chem_id, volts["full"], volts["nominal"], volts["empty"],  # type: ignore[arg-type]
-                          str(base.get("source", "")))
     return Pack(cells, chemistry, resistance or 0.0)
 
 
