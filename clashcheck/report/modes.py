@@ -18,7 +18,7 @@ from ..identify.result import ModesResult
 from .common import CAUTIONS
 
 __all__ = ["to_json_dict", "render_json", "render_table", "render_toml", "CAUTIONS", "amplitude_fields",
-           "AMPLITUDE_KEYS"]
+           "amplitude_entries", "AMPLITUDE_KEYS"]
 
 
 
@@ -57,6 +57,24 @@ def amplitude_fields(a: AmplitudeDamping | None) -> dict[str, Any]:
         "taps_combined": a.taps,
         "taps_alike": a.taps_alike,
     }
+
+
+def amplitude_entries(mode: Any) -> dict[str, Any]:
+    """The damping-against-amplitude keys of a mode's ``[[frame.modes]]`` table (no ``None`` values).
+
+    Parameters
+    ----------
+    mode : MeasuredMode
+        A measured mode.
+
+    Returns
+    -------
+    dict
+        Empty when the mode has no damping against amplitude.
+    """
+    if getattr(mode, "amplitude_damping", None) is None:
+        return {}
+    return {k: v for k, v in amplitude_fields(mode.amplitude_damping).items() if v is not None}
 
 
 #: Keys :func:`amplitude_fields` gives each mode, in order.
@@ -266,14 +284,14 @@ def render_toml(result: ModesResult, today: _dt.date | None = None) -> str:
                                   "the recording's units. Set operating_amplitude_rec to the amplitude "
                                   "the frame sees in flight and check uses the damping there; without "
                                   "it, check uses the lowest damping over the measured range."))
-            for key, value in amplitude_fields(m.amplitude_damping).items():
+            for key, value in amplitude_entries(m).items():
                 if isinstance(value, bool):
                     lines.append(f"{key} = {'true' if value else 'false'}")
                 elif isinstance(value, str):
                     lines.append(f"{key} = {_toml_string(value)}")
                 elif isinstance(value, int):
                     lines.append(f"{key} = {value}")
-                elif value is not None:  # already rounded; any magnitude
+                else:  # already rounded; any magnitude
                     lines.append(f"{key} = {float(value)!r}")
         lines.append("")
     for o in result.orders:
