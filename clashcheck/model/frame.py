@@ -141,6 +141,8 @@ def _one_thread() -> AbstractContextManager[object]:
     """Hold BLAS to one thread: on these small dense problems a threaded solver
     spends its time waiting, several times slower on two shared cores
     (bench/bench_frame.py).  A no-op without threadpoolctl."""
+    import scipy.linalg  # noqa: F401 - load scipy's BLAS first: only loaded libraries are limited
+
     try:
         from threadpoolctl import threadpool_limits
     except ImportError:  # pragma: no cover - a core dependency
