@@ -140,6 +140,42 @@ def close_modes(modes: Sequence[Mode], separation: float = DEFAULT_SEPARATION
         math.isfinite(separation) and 0.0 < separation < 1.0
     ):
         raise InputError("separation", "a fraction between 0 and 1, like 0.05", separation)
+    return tuple(out) or ("detune_one",)
+
+
+def close_modes(modes: Sequence[Mode], separation: float = DEFAULT_SEPARATION
+                ) -> tuple[ClosePair, ...]:
+    """Pairs of modes closer than the separation, lowest first.
+
+    Parameters
+    ----------
+    modes : sequence of Mode
+        Modes of any origin.
+    separation : float, optional
+        Relative gap below which a pair is close, whatever the damping
+        (fraction, 0 to 1); the pair's ζ₁ + ζ₂ raises it when larger.
+
+    Returns
+    -------
+    tuple of ClosePair
+        Each pair of neighbours in frequency that is close, ordered by the
+        lower frequency (a cluster of three close modes gives two pairs).
+
+    Raises
+    ------
+    InputError
+        For a separation outside (0, 1).
+
+    Examples
+    --------
+    >>> pairs = close_modes([Mode("a", 200.0), Mode("b", 206.0), Mode("c", 300.0)])
+    >>> [(p.lower, p.upper, round(p.gap, 3)) for p in pairs]
+    [('a', 'b', 0.03)]
+    """
+    if isinstance(separation, bool) or not isinstance(separation, (int, float)) or not (
+        math.isfinite(separation) and 0.0 < separation < 1.0
+    ):
+        raise InputError("separation", "a fraction between 0 and 1, like 0.05", separation)
     ordered = sorted(modes, key=lambda m: m.frequency_hz)
     out = []
     for low, high in zip(ordered, ordered[1:]):
@@ -188,15 +224,12 @@ def close_modes(modes: Sequence[Mode], separation: float = DEFAULT_SEPARATION
         raise InputError("separation", "a fraction between 0 and 1, like 0.05", separation)
     ordered = sorted(modes, key=lambda m: m.frequency_hz)
     out = []
-    for i, low in enumerate(ordered):
-        for high in ordered[i + 1:]:
-            gap = (high.frequency_hz - low.frequency_hz) / low.frequency_hz
-            damping = (low.damping or 0.0) + (high.damping or 0.0)
-            limit = max(separation, damping)
-            if gap >= 2.0:  # sorted, and ζ₁ + ζ₂ < 2: nothing further can be close
-                break
-            if gap < limit:
-                out.append(ClosePair(low.name, high.name, low.frequency_hz, high.frequency_hz,
-                                     gap, limit, "damping" if damping > separation else "default",
-                                     _levers(low, high)))
+    for low, high in zip(ordered, ordered[1:]):
+        gap = (high.frequency_hz - low.frequency_hz) / low.frequency_hz
+        damping = (low.damping or 0.0) + (high.damping or 0.0)
+        limit = max(separation, damping)
+        if gap < limit:
+            out.append(ClosePair(low.name, high.name, low.frequency_hz, high.frequency_hz,
+                                 gap, limit, "damping" if damping > separation else "default",
+                                 _levers(low, high)))
     return tuple(out)

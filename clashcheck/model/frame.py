@@ -706,7 +706,7 @@ def solve_frame(model: FrameModel, count: int | None = None,
     ...                    FrameLayout(stretched_angles(4), 0.03))
     >>> f, shapes = solve_frame(model, count=8)
     >>> f.shape, shapes.shape
-    ((8,), (198, 8))
+    ((8,), (222, 8))
     """
     mat = model.arm.material
     asm = _assemble(model)
@@ -1042,7 +1042,8 @@ def _pair(measured: Sequence[Mode], freqs: np.ndarray, axes: Sequence[str]) -> l
     """Model index for each measured mode: nearest in log-frequency, axes agreeing when stated."""
     from scipy.optimize import linear_sum_assignment
 
-    cost = np.abs(np.log(np.array([m.frequency_hz for m in measured])[:, None] / freqs[None, :]))
+    # squared log distance: convex, so of two crossing pairings the ordered one always wins
+    cost = np.log(np.array([m.frequency_hz for m in measured])[:, None] / freqs[None, :]) ** 2
     for i, m in enumerate(measured):
         if m.axis in _AXIS_NAMES:
             cost[i, [j for j, ax in enumerate(axes) if ax != m.axis]] += 10.0
@@ -1058,7 +1059,7 @@ def calibrate_frame(model: FrameModel, measured: Sequence[Mode], *, fit_modulus:
     """Fit the root-spring stiffness (and optionally E in its catalog range) to measured modes.
 
     Each measured mode is paired with one model mode: the nearest in
-    log-frequency, by an optimal assignment (:func:`scipy.optimize.
+    log-frequency (least squared distance overall), by an optimal assignment (:func:`scipy.optimize.
     linear_sum_assignment`), with a measured ``axis`` of roll, pitch or yaw
     only paired to a model mode on that axis where one is near.  The
     relative residuals log(f_model/f_measured) are then minimised with
