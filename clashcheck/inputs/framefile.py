@@ -195,7 +195,8 @@ def load_frame_model(path: str | Path, *, elements_per_arm: int = DEFAULT_ELEMEN
 
     data = _read_toml(path, "build file")
     build = parse_build(data, path=str(path))
-    frame = data.get("frame") if isinstance(data.get("frame"), dict) else {}
+    raw = data.get("frame")
+    frame: dict[str, Any] = raw if isinstance(raw, dict) else {}
     model = parse_frame_model(frame, build.arm, motors=build.motors,
                               elements_per_arm=elements_per_arm)
     if model is None:

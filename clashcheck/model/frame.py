@@ -55,18 +55,19 @@ What each mode reports
   "diagonals alternating" on four arms).  The name is the pattern holding the
   largest share; "mixed" when none holds half.
 - ``gyro_signature``: the body's rotation about roll, pitch and yaw per unit
-  modal motion.  Modal velocity and body angular rate share the factor ω, so
-  the rate ratio equals the displacement ratio.  It is made dimensionless:
-  body rotation [rad] × span / (largest arm translation [m]), where span is
-  the root radius plus the arm length.  1 means the body turns as much as a
-  rigid turn of the whole frame moving the tips by the same amount; 0 means
-  the gyro does not see the mode at all.  The sign is fixed so the largest
-  component is positive.
+  modal coordinate (the shape M-normalised), times √(body inertia about that
+  axis).  Modal velocity and body angular rate share the factor ω, so this is
+  also the angular rate per unit modal velocity.  Normalised so: its squares
+  are the shares of the mode's kinetic energy in the body's turning about
+  each axis, and its length is at most 1; 0 means the gyro does not see the
+  mode.  The sign is fixed so the largest component is positive.
 - ``axis``: roll, pitch or yaw, whichever component is largest, or ``none``
   when every component is below :data:`AXIS_THRESHOLD`.
 - ``effective_mass_kg``: the mass of the single-degree-of-freedom oscillator
-  that has the mode's kinetic energy when it moves with the point of largest
-  translation (for an M-normalised shape, 1/max|u|²).  The usual
+  that has the mode's kinetic energy when it moves with the mode's largest
+  displacement of any point of the arms or motors (translation, plus twist
+  times the section's half-depth, plus the motor's rotation times its radius
+  of gyration): for an M-normalised shape, 1/max|u|².  The usual
   base-excitation effective mass is zero for every elastic mode of a
   free–free structure (they are M-orthogonal to the rigid-body motions), so
   it is not given.
@@ -930,7 +931,7 @@ def _estimate(model: FrameModel, asm: _Assembled, max_frequency_hz: float, max_m
         low = _solve(asm, mat.modulus_low_pa, mat.density_high_kg_m3, spring, keep).frequencies_hz
         high = _solve(asm, mat.modulus_high_pa, mat.density_low_kg_m3, spring,
                       keep).frequencies_hz
-    modes = []
+    modes: list[FrameMode] = []
     for i in range(keep):
         f = float(nominal.frequencies_hz[i])
         f_low, f_high = min(float(low[i]), f), max(float(high[i]), f)

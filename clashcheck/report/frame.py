@@ -48,7 +48,7 @@ LEVER_TEXT = {
 
 
 def _sig(mode: FrameMode) -> str:
-    return " ".join(f"{x:+.2f}" for x in mode.gyro_signature)
+    return " ".join(" 0.00" if abs(x) < 0.005 else f"{x:+.2f}" for x in mode.gyro_signature)
 
 
 def _body_text(est: FrameEstimate) -> list[str]:
