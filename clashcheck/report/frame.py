@@ -316,10 +316,10 @@ def draw_frame_modes(fig: Any, est: FrameEstimate, count: int = 8) -> None:
     Each mode gets a row: plan view (x to the nose up the page, y to the
     right) and side view from the right (x to the right, z up the page is
     −z, as the frame flies).  Undeformed arms are grey, deformed ones
-    coloured, deformation exaggerated so the largest motion is 15 % of the
-    span; the factor is in each row's title.  Artists carry a ``gid``:
-    ``rest:<mode>:<arm>``, ``plan:<mode>:<arm>``, ``side:<mode>:<arm>`` and
-    ``body:<mode>``.
+    coloured, the body black (centre to each root), deformation exaggerated
+    so the largest motion is 15 % of the span (root radius plus arm length).
+    Artists carry a ``gid``: ``rest:<mode>:<arm>``, ``plan:<mode>:<arm>``,
+    ``side:<mode>:<arm>``, ``body:<mode>:<arm>`` and ``body:<mode>``.
 
     Parameters
     ----------
@@ -349,10 +349,15 @@ def draw_frame_modes(fig: Any, est: FrameEstimate, count: int = 8) -> None:
             plan.plot(m[:, 1], m[:, 0], color="C0", lw=2, gid=f"plan:{mode.index}:{a}")
             side.plot(r[:, 0], -r[:, 2], color="0.75", lw=1, gid=f"rest:{mode.index}:{a}:side")
             side.plot(m[:, 0], -m[:, 2], color="C3", lw=2, gid=f"side:{mode.index}:{a}")
-        plan.plot([body_move[1]], [body_move[0]], "ks", ms=5, gid=f"body:{mode.index}")
-        plan.set_title(f"{mode.index}: {mode.frequency_hz:.0f} Hz, {mode.pattern} — plan "
-                       f"(×{scale:.3g})", fontsize=8)
-        side.set_title(f"axis {mode.axis} — side view from the right", fontsize=8)
+        for a, m in enumerate(moved):      # the rigid body: centre to each (moved) root
+            plan.plot([body_move[1], m[0, 1]], [body_move[0], m[0, 0]], color="k", lw=1,
+                      gid=f"body:{mode.index}:{a}")
+            side.plot([body_move[0], m[0, 0]], [-body_move[2], -m[0, 2]], color="k", lw=1,
+                      gid=f"body:{mode.index}:{a}:side")
+        plan.plot([body_move[1]], [body_move[0]], "ks", ms=4, gid=f"body:{mode.index}")
+        plan.set_title(f"{mode.index}: {mode.frequency_hz:.0f} Hz, {mode.pattern}\n"
+                       "plan; largest motion drawn at 15 % of span", fontsize=8)
+        side.set_title(f"gyro axis {mode.axis}\nside view from the right", fontsize=8)
         plan.set_aspect("equal")
         side.set_aspect("equal", adjustable="datalim")
         for ax in (plan, side):
