@@ -257,7 +257,10 @@ def _pynite_frequencies(model: FrameModel, count: int = 8) -> np.ndarray:
         k[col, col_c[3:]] -= clamp * u
         k[col_c[3:], col] -= clamp * u
         k[np.ix_(col_c[3:], col_c[3:])] += clamp * np.outer(u, u)
-    values = eigh(k, m, eigvals_only=True)
+    from threadpoolctl import threadpool_limits
+
+    with threadpool_limits(limits=1, user_api="blas"):  # small dense problem: one thread is faster
+        values = eigh(k, m, eigvals_only=True)
     return np.sqrt(np.abs(values[6:6 + count])) / (2 * math.pi)
 
 
