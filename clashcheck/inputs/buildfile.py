@@ -44,7 +44,7 @@ __all__ = [
 MAX_FILE_BYTES = 1_000_000
 
 _TOP_KEYS = ("name", "description", "frame", "motor", "prop", "battery", "sensor", "flight", "check")
-_FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description")
+_FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description", "body", "layout")
 _MODE_KEYS = (
     "name", "frequency", "damping", "axis", "kind", "source",
     "damping_low", "damping_high", "confidence", "method",
@@ -460,10 +460,22 @@ def parse_build(data: dict[str, Any], *, path: str | None = None) -> Build:
             arm_raw, field="frame.arm", motor_mass_kg=motor.mass_kg, prop_mass_kg=prop.mass_kg
         )
         measured_names = {m.name for m in modes}
-        estimate = arm_module.estimate_arm(arm)
-        estimated = arm_module.estimated_modes(estimate)
+        # --- frame model (issue 15): [frame.body] replaces the single-arm estimate
+        from .framefile import frame_estimate_for_build
+
+        frame_found = frame_estimate_for_build(frame, arm, motors)  # type: ignore[arg-type]
+        if frame_found is not None:
+            estimated, estimate_notes = frame_found
+            notes += [f"frame model: {n}" for n in estimate_notes]
+        else:
+            estimate = arm_module.estimate_arm(arm)
+            estimated = arm_module.estimated_modes(estimate)
+            notes += [f"arm estimate: {n}" for n in estimate.notes]
+        # --- end frame model
         modes = modes + [m for m in estimated if m.name not in measured_names]
-        notes += [f"arm estimate: {n}" for n in estimate.notes]
+    elif "body" in frame or "layout" in frame:  # type: ignore[operator]
+        raise InputError("frame.arm", "an [frame.arm] table with [frame.body] and [frame.layout]",
+                         "nothing", "the frame model needs the arms' section and material")
     if not modes:
         raise InputError("frame.modes", "at least one [[frame.modes]] entry, a frame catalog or [frame.arm]", [])
     return Build(
