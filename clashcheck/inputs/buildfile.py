@@ -13,6 +13,8 @@ build file is evaluated as code.
 
 from __future__ import annotations
 
+import math
+
 import tomllib
 from pathlib import Path
 from typing import Any
@@ -42,10 +44,18 @@ __all__ = [
 MAX_FILE_BYTES = 1_000_000
 
 _TOP_KEYS = ("name", "description", "frame", "motor", "prop", "battery", "sensor", "flight", "check")
-_FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description")
+_FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description", "body", "layout")
 _MODE_KEYS = (
     "name", "frequency", "damping", "axis", "kind", "source",
     "damping_low", "damping_high", "confidence", "method", "frequency_low", "frequency_high",
+)
+#: Damping against amplitude in a modes file (issue 14; see :func:`_amplitude_damping`).
+_AMPLITUDE_KEYS = (
+    "decay", "damping_model", "viscous_damping", "viscous_damping_low", "viscous_damping_high",
+    "friction_drop_per_cycle", "friction_drop_per_cycle_low", "friction_drop_per_cycle_high",
+    "amplitude_low_rec", "amplitude_high_rec", "damping_at_amplitude_low",
+    "damping_at_amplitude_high", "damping_exponent", "taps_combined", "taps_alike",
+    "operating_amplitude_rec",
 )
 _MOTOR_KEYS = ("catalog", "kv", "poles", "slots", "resistance", "no_load_current", "mass", "stator", "description")
 _PROP_KEYS = (
@@ -103,7 +113,7 @@ def _merge_catalog(raw: dict[str, Any], kind: str, where: str, keys: tuple[str, 
 
 def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
     """One ``[[frame.modes]]`` table → :class:`~clashcheck.modes.Mode`."""
-    f.check_keys(raw, _MODE_KEYS, where)
+    f.check_keys(raw, _MODE_KEYS + _AMPLITUDE_KEYS, where)
     name = f.text(raw, "name", where, required=True)
     assert name is not None
     if not name.strip():
@@ -134,6 +144,7 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
     method = f.text(raw, "method", where)
     if method is not None:
         details["method"] = method
+    damping = _amplitude_damping(raw, where, details, damping)
     return Mode(
         name=name,
         frequency_hz=freq,
@@ -146,6 +157,59 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
         frequency_high_hz=high,
         details=details,
     )
+
+
+def _amplitude_damping(raw: dict[str, Any], where: str, details: dict[str, object],
+                       damping: float | None) -> float | None:
+    """The ζ ``check`` uses for a mode whose damping depends on amplitude.
+
+    With ``operating_amplitude_rec`` (recording units, the same as the
+    measured range), ζ at that amplitude; without it, the lowest ζ over the
+    measured range.  Facts for the report go into ``details``: the single
+    figure (``damping_single``), the basis, the amplitude used and the range.
+    Without the amplitude keys, ``damping`` is returned unchanged.
+    """
+    if "decay" not in raw:
+        if "operating_amplitude_rec" in raw:
+            raise InputError(f"{where}.operating_amplitude_rec", "a mode measured with damping against "
+                             "amplitude (decay, damping_at_amplitude_low, ...)", raw["operating_amplitude_rec"])
+        return damping
+    from ..model.amplitude import AmplitudeDependence
+
+    decay = f.choice(raw, "decay", where, ("viscous", "friction", "mixed"), default="viscous")
+    model = f.choice(raw, "damping_model", where, ("viscous", "friction-viscous", "power-law"),
+                     default="friction-viscous")
+    zeta = {k: f.ratio(raw, k, where, low=0.0, high=1.0, open_low=False, what="a damping ratio",
+                       required=True)
+            for k in ("viscous_damping", "damping_at_amplitude_low", "damping_at_amplitude_high")}
+    amp = {k: f.ratio(raw, k, where, low=0.0, high=math.inf, what="an amplitude in the recording's units",
+                      required=True)
+           for k in ("amplitude_low_rec", "amplitude_high_rec")}
+    drop = f.ratio(raw, "friction_drop_per_cycle", where, low=0.0, high=math.inf, open_low=False,
+                   what="an amplitude drop in the recording's units", default=0.0)
+    op = f.ratio(raw, "operating_amplitude_rec", where, low=0.0, high=math.inf,
+                 what="an amplitude in the recording's units")
+    if amp["amplitude_low_rec"] > amp["amplitude_high_rec"]:  # type: ignore[operator]
+        raise InputError(f"{where}.amplitude_low_rec", "at most amplitude_high_rec",
+                         amp["amplitude_low_rec"])
+    dep = AmplitudeDependence(decay or "viscous", model or "friction-viscous", zeta["viscous_damping"] or 0.0,
+                              drop or 0.0, amp["amplitude_low_rec"] or 0.0, amp["amplitude_high_rec"] or 0.0,
+                              zeta["damping_at_amplitude_low"] or 0.0, zeta["damping_at_amplitude_high"] or 0.0)
+    details.update(amplitude=dep, damping_single=damping)
+    for key in ("viscous_damping_low", "viscous_damping_high"):
+        details[key] = f.ratio(raw, key, where, low=0.0, high=1.0, open_low=False, what="a damping ratio")
+    for key in ("friction_drop_per_cycle_low", "friction_drop_per_cycle_high"):
+        details[key] = f.ratio(raw, key, where, low=0.0, high=math.inf, open_low=False,
+                               what="an amplitude drop in the recording's units")
+    if op is not None:
+        used, basis, at = dep.damping(op), "operating amplitude", op
+    else:
+        (used, at), basis = dep.lowest(), "lowest over the measured range"
+    if not 0.0 < used < 1.0:
+        raise InputError(f"{where}.operating_amplitude_rec", "an amplitude where the measured damping "
+                         "lies between 0 and 1", op)
+    details.update(damping_basis=basis, damping_amplitude_rec=at)
+    return used
 
 
 def _parse_modes(raws: list[dict[str, Any]], where: str, origin: str) -> list[Mode]:
@@ -434,10 +498,22 @@ def parse_build(data: dict[str, Any], *, path: str | None = None) -> Build:
             arm_raw, field="frame.arm", motor_mass_kg=motor.mass_kg, prop_mass_kg=prop.mass_kg
         )
         measured_names = {m.name for m in modes}
-        estimate = arm_module.estimate_arm(arm)
-        estimated = arm_module.estimated_modes(estimate)
+        # --- frame model (issue 15): [frame.body] replaces the single-arm estimate
+        from .framefile import frame_estimate_for_build
+
+        frame_found = frame_estimate_for_build(frame, arm, motors)  # type: ignore[arg-type]
+        if frame_found is not None:
+            estimated, estimate_notes = frame_found
+            notes += [f"frame model: {n}" for n in estimate_notes]
+        else:
+            estimate = arm_module.estimate_arm(arm)
+            estimated = arm_module.estimated_modes(estimate)
+            notes += [f"arm estimate: {n}" for n in estimate.notes]
+        # --- end frame model
         modes = modes + [m for m in estimated if m.name not in measured_names]
-        notes += [f"arm estimate: {n}" for n in estimate.notes]
+    elif "body" in frame or "layout" in frame:  # type: ignore[operator]
+        raise InputError("frame.arm", "an [frame.arm] table with [frame.body] and [frame.layout]",
+                         "nothing", "the frame model needs the arms' section and material")
     if not modes:
         raise InputError("frame.modes", "at least one [[frame.modes]] entry, a frame catalog or [frame.arm]", [])
     return Build(
