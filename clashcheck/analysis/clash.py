@@ -321,6 +321,7 @@ def operating_bands(
     dwell_spread: float = 0.03,
     cruise_dwell: bool = False,
     measured_dwell: Sequence[tuple[float, float]] | None = None,
+    measured_dwell_hz: bool = False,
 ) -> tuple[OperatingBand, ...]:
     """Hover, operating band and dwell zones per pack state.
 
@@ -350,6 +351,9 @@ def operating_bands(
     measured_dwell : sequence of (low, high), optional
         Dwell zones from a measured throttle occupancy [fraction]; they
         replace the hover and cruise zones at every pack state.
+    measured_dwell_hz : bool
+        When true, ``measured_dwell`` holds rotor-rate bands [Hz], turned into
+        throttles per pack state with the inverse drive model (rising side).
 
     Returns
     -------
@@ -369,7 +373,11 @@ def operating_bands(
         if math.isnan(low):
             pass
         elif measured_dwell is not None:
-            dwell = [("measured", max(idle, a), min(throttle_max, b)) for a, b in measured_dwell]
+            spans = list(measured_dwell)
+            if measured_dwell_hz:
+                edges = drive.throttle_at(np.array(spans, dtype=float), state)
+                spans = [(float(a), float(b)) for a, b in np.minimum(edges, throttle_max)]
+            dwell = [("measured", max(idle, a), min(throttle_max, b)) for a, b in spans]
         else:
             if hover.how == "unknown":
                 dwell.append(("operating band", low, high))
@@ -677,6 +685,7 @@ def analyse(
     cruise_dwell: bool = False,
     measured_dwell: Sequence[tuple[float, float]] | None = None,
     significance_floor: float = SIGNIFICANCE_FLOOR,
+    measured_dwell_hz: bool = False,
 ) -> ClashResult:
     """Run the whole clash check.
 
@@ -718,6 +727,8 @@ def analyse(
         Dwell zones from a measured throttle occupancy [fraction].
     significance_floor : float
         Weight after the filter × magnification an order needs to make a clash.
+    measured_dwell_hz : bool
+        Whether ``measured_dwell`` holds rotor-rate bands [Hz] instead of throttles.
 
     Returns
     -------
@@ -726,7 +737,8 @@ def analyse(
         margins at hover and cruise, findings and the verdict.
     """
     bands = operating_bands(drive, mass_kg, pack_states, idle, cruise, stated_hover, throttle_max=throttle_max,
-                            dwell_spread=dwell_spread, cruise_dwell=cruise_dwell, measured_dwell=measured_dwell)
+                            dwell_spread=dwell_spread, cruise_dwell=cruise_dwell, measured_dwell=measured_dwell,
+                            measured_dwell_hz=measured_dwell_hz)
     findings = tuple(
         CheckFinding("cannot_hover", "clash", b.pack_state, b.hover.throttle)
         for b in bands if b.hover.how != "unknown" and not b.hover.can_hover
@@ -877,4 +889,5 @@ def check_build(build) -> ClashResult:
         cruise_dwell=fl.cruise_dwell,
         measured_dwell=None if fl.occupancy is None else fl.occupancy.dwell_zones(),
         significance_floor=build.check.significance_floor,
+        measured_dwell_hz=fl.occupancy is not None and fl.occupancy.quantity == "rotor_hz",
     )

@@ -670,7 +670,7 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         fly4 = flies_s[:, :, None, None]
 
         # dwell zones per (candidate, state), as clash.operating_bands: (c, S, Z)
-        zone_lo, zone_hi = _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi)
+        zone_lo, zone_hi = _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi, v, drive)
         peak = rotor_peak(v, drive, fl.max)                           # (c, S, 1, 1) each
 
         # direct windows, as clash.find_windows: band edges → throttle on both sides of any
@@ -764,14 +764,23 @@ def _pairs(windows):
     return ((rise_lo, rise_hi), (fall_lo, fall_hi))
 
 
-def _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi):
+def _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi, v, drive):
     """Dwell zones per (candidate, state) as :func:`clashcheck.analysis.clash.operating_bands` sets them.
 
     Returns (zone_lo, zone_hi), each (c, S, Z); an unused slot has low > high.
     """
     c, n_states = d_hover.shape
     flies = ~np.isnan(band_lo)
-    if fl.occupancy is not None:
+    if fl.occupancy is not None and fl.occupancy.quantity == "rotor_hz":
+        zones = np.array(fl.occupancy.dwell_zones(), dtype=float)                    # (Z, 2) [Hz]
+        v_z = v[:, :, 0, 0][:, :, None]
+        d_x = {k: (np.asarray(x)[:, 0, 0, 0][:, None, None] if np.ndim(x) else x) for k, x in drive.items()}
+        with np.errstate(invalid="ignore"):
+            lo_d = throttle_at_rad_s(zones[:, 0] * TWO_PI, v_z, **d_x)
+            hi_d = throttle_at_rad_s(zones[:, 1] * TWO_PI, v_z, **d_x)
+        zone_lo = np.maximum(fl.idle, np.minimum(lo_d, fl.max))
+        zone_hi = np.minimum(fl.max, hi_d)
+    elif fl.occupancy is not None:
         zones = fl.occupancy.dwell_zones()
         lo = np.array([max(fl.idle, a) for a, _b in zones])
         hi = np.array([min(fl.max, b) for _a, b in zones])

@@ -569,7 +569,8 @@ def load_modes_file(path: str | Path) -> MeasuredModes:
     """Read a modes file: ``[[frame.modes]]``, optional ``[[order_strengths]]`` and ``[dwell]``.
 
     Modes from such a file are marked ``measured``.  ``[dwell]`` holds a
-    flight's throttle occupancy: ``throttle = [band edges as fractions]`` and
+    flight's throttle occupancy: ``throttle = [band edges as fractions]`` (or
+    ``rotor_hz = [band edges in Hz]`` when the log had no throttle) and
     ``share = [time fraction per band]`` (summing to 1); ``check`` then takes
     its dwell zones from it.
 
@@ -595,10 +596,14 @@ def load_modes_file(path: str | Path) -> MeasuredModes:
         occupancy = None
         dwell = f.table(data, "dwell", "")
         if dwell is not None:
-            f.check_keys(dwell, ("throttle", "share", "source"), "dwell")
+            f.check_keys(dwell, ("throttle", "rotor_hz", "share", "source"), "dwell")
             f.text(dwell, "source", "dwell")
-            occupancy = ThrottleOccupancy(_numbers(dwell, "throttle", "dwell"), _numbers(dwell, "share", "dwell"),
-                                          str(path))
+            if ("throttle" in dwell) == ("rotor_hz" in dwell):
+                raise InputError("dwell", "band edges as either throttle = [...] or rotor_hz = [...]",
+                                 "both" if "throttle" in dwell else "neither")
+            quantity = "throttle" if "throttle" in dwell else "rotor_hz"
+            occupancy = ThrottleOccupancy(_numbers(dwell, quantity, "dwell"), _numbers(dwell, "share", "dwell"),
+                                          str(path), quantity)
     except InputError as exc:  # name the modes file, not only the field
         raise InputError(f"{path}: {exc.field}", exc.expected, exc.got, exc.hint) from None
     return MeasuredModes(tuple(modes), strengths, str(path), occupancy)
