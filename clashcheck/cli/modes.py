@@ -63,9 +63,11 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--resolution", type=Quantity("Hz", "1 Hz"), help="Frequency resolution of the spectra.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @click.option("--output", "-o", type=PATH, help="Also write the modes as a build fragment (TOML).")
+@click.option("--include-candidates", is_flag=True,
+              help="Write peaks below the confidence floor into the modes file too.")
 @click.option("--quiet", "-q", is_flag=True, help="No progress bar.")
 def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str | None, fmt: str,
-                  output: Path | None, quiet: bool, **opts) -> None:
+                  output: Path | None, quiet: bool, include_candidates: bool, **opts) -> None:
     """Find frame modes (frequency, damping, axis) in a tap test or flight recording.
 
     Tap tests are done with the propellers removed. Results are design advice.
@@ -104,7 +106,7 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
 
         result = analyse(rec, settings, progress=tick)
     if output is not None:
-        emit(render_toml(result), output, [recording] + ([build_file] if build_file else []))
+        emit(render_toml(result, include_candidates=include_candidates), output, [recording] + ([build_file] if build_file else []))
     click.echo(render_json(result) if fmt == "json" else render_table(result), nl=False)
 
 
@@ -127,6 +129,18 @@ def _modes_flight_options(opts: dict, axes: str | None, build_file: Path | None)
         out["rotor_of_throttle"] = drive.rotor_hz  # nominal pack; a bound method pickles
     return out
 
+
+#: Library fields of the analysis settings and the flag that sets each.
+FIELD_FLAGS = {
+    "min_frequency_hz": "--min-frequency",
+    "max_frequency_hz": "--max-frequency",
+    "resolution_hz": "--resolution",
+    "axes": "--axes",
+    "blades": "--blades",
+    "poles": "--poles",
+    "slots": "--slots",
+    "rpm_columns": "--rpm-columns",
+}
 
 #: The commands this module adds to the group.
 COMMANDS = (modes_command,)
