@@ -821,19 +821,27 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
         return full_model(fn, z)[band_sl]
 
     df = freq[1] - freq[0]
-    # relative standard error of the median spectrum: each bin's mean of n Welch
-    # periodograms varies by about 1/sqrt(n); the median of N such bins by
-    # 1.2533/sqrt(N) times that (asymptotic efficiency of the median; derived)
-    rel_err = 1.2533 * float(np.median(1.0 / np.sqrt(counts))) / math.sqrt(len(counts))
+    # relative standard error of the stationary spectrum, measured on it: the
+    # spread of its ratio to a running median over 31 bins (a peak or two move
+    # the median absolute deviation little; 1.4826 × MAD estimates σ for normal
+    # errors)
+    from scipy.ndimage import median_filter
+
+    smooth = median_filter(stationary, size=(1, 31), mode="nearest")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        dev = stationary / np.where(smooth > 0, smooth, np.nan) - 1.0
+    dev = dev[np.isfinite(dev)]
+    rel_err = 1.4826 * float(np.median(np.abs(dev - np.median(dev)))) if dev.size else 1.0
     cands = []
     for ch in range(nch):
         spec = stationary[ch]
         floor = noise_floor(freq, spec)
         for pk in find_modes_peaks(freq, spec, settings.snr_db, settings.prominence_db,
                                    4 * df, settings.max_modes * 2, floor):
-            rise = 1.0 - 10.0 ** (-pk.prominence_db / 10.0)  # (peak − base)/peak
-            if rise < SIGNIFICANCE * rel_err:
-                continue  # a ripple that the spread of the median spectrum can make
+            # a ripple that the spread of the stationary spectrum can make: the
+            # prominence against the spectrum's own scatter, in dB
+            if pk.prominence_db < SIGNIFICANCE * 10.0 * math.log10(1.0 + rel_err):
+                continue
             reason = _order_like(pk.freq_hz, values, counts, normed_any[:, ch, :], freq, df,
                                  floor[pk.index], rotor_known)
             if reason:
@@ -896,10 +904,13 @@ def _order_like(f0: float, values: np.ndarray, counts: np.ndarray, normed: np.nd
         k = np.maximum(np.round(ratio), 1.0)
         tol = np.maximum(3 * df, 0.015 * f0)
         on_line = np.abs(f0 - k * values) <= tol
-        share = float(np.sum(counts[on_line]) / np.sum(counts))
+        # one vote per rotor-rate bin, not per second: a line that dwells on a mode at
+        # hover is masked there, and the other bins show the mode on its own
+        share = float(np.mean(on_line))
         if share > 0.5 and len(values) >= 1:
             common = int(np.bincount(k[on_line].astype(int)).argmax())
-            return f"sits on order {common} of the rotor rate in {100 * share:.0f} % of the time"
+            return (f"sits on order {common} of the rotor rate in {100 * share:.0f} % of the "
+                    "rotor-rate bins")
     # a mode stands out of its surroundings in most bins; an order line at one
     # frequency does so in few
     i = int(np.argmin(np.abs(freq - f0)))

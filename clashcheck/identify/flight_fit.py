@@ -77,6 +77,7 @@ def fit_band(
     model: Callable[[float, float], np.ndarray],
     oversample: float = 2.0,
     level: float = LEVEL,
+    floor: float | None = None,
 ) -> BandFit | None:
     """Fit the SDOF response over the band around one peak.
 
@@ -97,6 +98,10 @@ def fit_band(
         FFT length / segment length (zero padding); scales the bin correlation.
     level : float
         Nominal coverage of the interval (0–1).
+    floor : float, optional
+        The spectrum's noise floor at the peak, same scale as ``power``; when
+        given, the flat term B is held there instead of fitted (on a band a few
+        half-power widths wide a fitted floor trades against the skirts).
 
     Returns
     -------
@@ -141,6 +146,9 @@ def fit_band(
                    math.log(top) - 20])
     hi = np.array([math.log(peak_hz + half / 2), math.log(0.5), math.log(top) + 5, 30.0,
                    math.log(top)])
+    if floor is not None and floor > 0:
+        fixed = math.log(min(floor, top * 0.5))
+        theta0[4], lo[4], hi[4] = fixed, fixed - 1e-6, fixed + 1e-6
     theta0 = np.clip(theta0, lo + 1e-9, hi - 1e-9)
     try:
         res = least_squares(resid, theta0, bounds=(lo, hi), x_scale="jac", xtol=1e-10,
@@ -150,7 +158,7 @@ def fit_band(
     if not res.success and res.status <= 0:
         return None
     r = res.fun
-    p = theta0.size
+    p = theta0.size - (1 if floor is not None and floor > 0 else 0)
     n = r.size
     if n <= p + 2:
         return None
@@ -162,7 +170,7 @@ def fit_band(
         return None
     corr = CORRELATED_BINS * max(oversample, 1.0)
     var_lnz = max(float(cov[1, 1]), 0.0) * corr
-    se = math.sqrt(var_lnz + MODEL_ERROR**2)
+    se = min(math.sqrt(var_lnz + MODEL_ERROR**2), 10.0)  # beyond ±e^10 nothing is known
     q = float(norm.ppf(0.5 + level / 2))
     z = math.exp(res.x[1])
     return BandFit(frequency_hz=math.exp(res.x[0]), damping=z,
