@@ -48,6 +48,9 @@ class Flight:
     #: RMS of each mode's response (before participation).
     mode_rms: float = 1.0
     noise_rms: float = 0.02
+    #: Order-line amplitudes grow as (rotor rate / rate at half throttle)^growth
+    #: (2 for a force ∝ ω²); the ratio between orders stays the same at every moment.
+    growth: float = 0.0
     #: Onboard low-pass corner [Hz] (2nd-order Butterworth), or ``None``.
     lowpass_hz: float | None = None
     seed: int = 0
@@ -80,10 +83,11 @@ def generate(spec: Flight) -> dict[str, np.ndarray]:
     sig = np.zeros((n, 3))
     motors = len(spec.spread)
     rates = [base * (1.0 + s) for s in spec.spread]
+    ref = float(spec.curve(np.asarray(0.5)))
     for k, amp in spec.orders:
         for f_m in rates:
             phase = 2 * np.pi * k * np.cumsum(f_m) / spec.fs + rng.uniform(0, 2 * np.pi)
-            line = np.sin(phase) / np.sqrt(motors)
+            line = np.sin(phase) / np.sqrt(motors) * (f_m / ref) ** spec.growth
             sig += line[:, None] * np.asarray(amp)[None, :]
     for fn, z, part in spec.modes:
         wn = 2 * np.pi * fn

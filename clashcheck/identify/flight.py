@@ -95,7 +95,7 @@ ESTIMATE_RANGE = (0.65, 1.5)
 #: Share of a bin's segments that must keep a frequency (clear of order lines) for
 #: the bin to vote on it in the stationary spectrum.
 MIN_KEPT = 0.5
-#: Fewest segments in which all compared orders are read together.
+#: Fewest segments in which an order and the reference order are read together.
 MIN_ORDER_SEGMENTS = 8
 #: Throttle bands of the measured dwell (equal bands over 0–1).
 DWELL_BANDS = 10
@@ -1026,14 +1026,17 @@ def _rises(stationary: np.ndarray, freq: np.ndarray, fn: float, raw_zeta: float)
 
 def _orders(order_list: list[float], power: np.ndarray, families: dict[float, str],
             rotor_known: bool, warnings: list[str]) -> tuple[OrderStrength, ...]:
-    """Relative order strengths: RMS line amplitude over the same segments for every order.
+    """Relative order strengths, each order compared with a reference at the same moments.
 
-    The orders compared are those readable in at least half as many segments as
-    the most readable one; the segments used are those where all of them are
-    readable (so a high order is not judged only at low throttle).  The level
-    of each is the median of its line power over those segments: the median
-    keeps the segments where a line crosses a frame mode (and is amplified by
-    it, or sits on its peak) from deciding the order's weight.
+    The reference is the order readable in the most segments (the strongest
+    of those, on a tie).  Every other order is compared with it over the
+    segments where both are readable: its strength is the square root of the
+    ratio of the two median line powers over those segments.  So a high order
+    that leaves the band at high throttle is compared with the reference at low
+    throttle only, and the reference is not judged at other moments.  The
+    median keeps the segments where a line crosses a frame mode (and is
+    amplified by it, or sits on its peak) from deciding the order's weight.
+    Strengths are then scaled so the strongest is 1.
     """
     if not rotor_known:
         return ()
@@ -1043,28 +1046,30 @@ def _orders(order_list: list[float], power: np.ndarray, families: dict[float, st
         warnings.append("no order line was inside the analysed band while the rotor rate held "
                         "steady; order strengths not measured")
         return ()
-    group = [j for j in range(len(order_list)) if cover[j] >= 0.5 * cover.max()]
-    common = ok[:, group].all(axis=1)
-    while common.sum() < MIN_ORDER_SEGMENTS and len(group) > 1:
-        group.remove(min(group, key=lambda j: cover[j]))
-        common = ok[:, group].all(axis=1)
-    group = [j for j in range(len(order_list)) if ok[common, j].all()] if common.any() else group
+    best = np.flatnonzero(cover == cover.max())
+    ref = int(max(best, key=lambda j: float(np.median(power[ok[:, j], j]))))
+    amps: dict[float, float] = {}
+    used: dict[float, int] = {}
     for j, k in enumerate(order_list):
-        if j not in group:
+        both = ok[:, j] & ok[:, ref]
+        if both.sum() < MIN_ORDER_SEGMENTS:
             if cover[j] == 0:
                 warnings.append(f"order {k:g} ({families[k]}) was never inside the analysed band "
                                 "while the rotor rate held steady; not measured")
             else:
-                warnings.append(f"order {k:g} ({families[k]}) was readable in only {cover[j]} "
-                                "segments, not at the moments the other orders were compared; "
-                                "not measured")
-    amps = {order_list[j]: math.sqrt(max(float(np.median(power[common, j])), 0.0))
-            for j in group}
-    top = max(amps.values())
-    if top <= 0:
+                warnings.append(f"order {k:g} ({families[k]}) was readable together with order "
+                                f"{order_list[ref]:g} in only {int(both.sum())} segments; not "
+                                "measured")
+            continue
+        p_ref = float(np.median(power[both, ref]))
+        p_j = float(np.median(power[both, j]))
+        amps[k] = math.sqrt(max(p_j, 0.0) / p_ref) if p_ref > 0 else 0.0
+        used[k] = int(both.sum())
+    if not amps or max(amps.values()) <= 0:
         warnings.append("no order line stood above the background")
         return ()
-    n = int(common.sum())
-    out = [OrderStrength(float(k), families[k], round(a / top, 4), n) for k, a in amps.items()]
+    top = max(amps.values())
+    out = [OrderStrength(float(k), families[k], round(a / top, 4), used[k])
+           for k, a in amps.items()]
     out.sort(key=lambda o: -o.relative_strength)
     return tuple(out)
