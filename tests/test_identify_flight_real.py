@@ -115,9 +115,8 @@ def test_onboard_150_hz_lowpass_damping_and_axes(tmp_path):
     for (fn, _z, part), m in zip(MODES, result.modes):
         assert m.frequency_hz == pytest.approx(fn, rel=0.01)
         assert m.axis == ("roll", "pitch", "yaw")[int(np.argmax(part))]
-    # above the filter's corner: within 25 % and inside the interval.  (The 118 Hz
-    # mode, just below the corner, reads about 25 % low: see the project notes.)
-    for (_fn, z, _p), m in zip(MODES[1:], result.modes[1:]):
+    # below and above the filter's corner: within 25 % and inside the interval
+    for (_fn, z, _p), m in zip(MODES, result.modes):
         assert m.damping == pytest.approx(z, rel=0.25)
         assert m.damping_low <= z <= m.damping_high
 
@@ -125,7 +124,7 @@ def test_onboard_150_hz_lowpass_damping_and_axes(tmp_path):
 #: The craft hovers at 0.4 throttle for 2/3 of the time, where 3× (270 Hz) sits on
 #: a mode at 270 Hz; a second mode at 118 Hz is clear of the lines at hover.
 DWELL_MODES = [(118.0, 0.02, (1.0, 0.3, 0.2)), (270.0, 0.025, (0.2, 0.3, 1.0))]
-DWELL_LEVELS = (0.4, 0.4, 0.4, 0.25, 0.4, 0.4, 0.55, 0.4, 0.7, 0.4)
+DWELL_LEVELS = (0.4, 0.4, 0.4, 0.3, 0.4, 0.4, 0.6, 0.4, 0.8, 0.4, 0.5)
 
 
 def test_order_line_dwelling_on_a_mode(tmp_path):
@@ -141,14 +140,18 @@ def test_order_line_dwelling_on_a_mode(tmp_path):
     assert share > 0.5
 
 
-@pytest.mark.xfail(strict=True, reason="known defect: a 3× line dwelling on the 270 Hz mode "
-                   "leaves a narrow residue at 277 Hz reported above the floor (project notes)")
 def test_nothing_confident_and_wrong_where_a_line_dwells_on_a_mode(tmp_path):
     spec = _flight(modes=DWELL_MODES, spread=(-0.015, -0.005, 0.005, 0.015), levels=DWELL_LEVELS)
     result = _analyse(tmp_path, spec, Columns(signals=SIG, time_column="t", rpm_columns=FOUR))
+    # above the floor, a figure near 270 Hz holds the truth in its interval ...
     for m in result.modes:
-        if abs(m.frequency_hz - 270.0) < 10.0 and m.damping is not None:
-            assert m.damping_low <= 0.025 <= m.damping_high
+        if abs(m.frequency_hz - 270.0) < 10.0:
+            assert m.damping is None or m.damping_low <= 0.025 <= m.damping_high
+    # ... and what cannot be measured is still listed, as a candidate that says why
+    near = [m for m in result.modes + result.candidates if abs(m.frequency_hz - 270.0) < 10.0]
+    assert near
+    assert all(m in result.modes or "order lines covered this mode" in m.method
+               or m.damping is None for m in near)
 
 
 def test_false_low_damping_peak_stays_out_of_the_modes(tmp_path):

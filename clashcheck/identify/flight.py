@@ -95,6 +95,11 @@ ESTIMATE_RANGE = (0.65, 1.5)
 #: Share of a bin's segments that must keep a frequency (clear of order lines) for
 #: the bin to vote on it in the stationary spectrum.
 MIN_KEPT = 0.5
+#: Least share of the recording in which a mode's band is clear of order lines for
+#: its figures to keep their confidence; below it the confidence falls in
+#: proportion, halved (judgement: a mode hidden under a line most of the flight
+#: is measured from the passages only).
+MIN_CLEAR = 0.5
 #: Fewest segments in which an order and the reference order are read together.
 MIN_ORDER_SEGMENTS = 8
 #: Throttle bands of the measured dwell (equal bands over 0–1).
@@ -610,18 +615,45 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
             out[rows, j] = np.maximum(line - (band - line) / nside * (b - a), 0.0) * df
         return out
 
-    def line_mask(nseg: int, lo: np.ndarray, hi: np.ndarray, spread: np.ndarray) -> np.ndarray:
-        """1.0 where a frequency of the band is clear of every order line, else 0.0."""
+    def line_mask(total: np.ndarray, lo: np.ndarray, hi: np.ndarray,
+                  spread: np.ndarray) -> np.ndarray:
+        """1.0 where a frequency of the band is clear of every order line, else 0.0.
+
+        Each line is masked over its main lobe and as far out as its Hann side
+        lobes stand above the spectrum around it: the side lobes fall from
+        −31.5 dB at 2.5 bins by about 18 dB per octave (Harris, Proc. IEEE 66
+        (1978) 51–83, Table 1), so a line r dB above its surroundings is masked
+        to 2.5 · 2^((r − 31.5)/18) resolution bins (2 to 12) on each side.
+        """
         band: slice = state["band"]
         df, line_hw = state["df"], state["line_hw"]
+        res = line_hw / 2.0
+        nseg, nf = total.shape
         f = np.arange(band.start, band.stop) * df
         keep = np.ones((nseg, f.size))
+        rows = np.arange(nseg)
+        reach = int(round(12 * res / df))
         for k in mask_orders:
             flo, fhi = _line_bounds(k, lo, hi, spread, line_hw, df)
-            a = np.searchsorted(f, flo)
-            b = np.searchsorted(f, fhi, side="right")
-            live = np.flatnonzero((b > a) & np.isfinite(flo))
-            for r in live:
+            live = np.isfinite(flo) & (flo < f[-1]) & (fhi > f[0])
+            if not live.any():
+                continue
+            # the line's top and the median level around it, per segment
+            c = np.clip(np.round(0.5 * (flo + fhi) / df).astype(int), 0, nf - 1)
+            half = np.clip(np.round(0.5 * (fhi - flo) / df).astype(int), 1, nf)
+            offs = np.arange(-reach - int(half.max()), reach + int(half.max()) + 1)
+            idx = np.clip(c[:, None] + offs[None, :], 0, nf - 1)
+            vals = total[rows[:, None], idx]
+            inside = np.abs(offs)[None, :] <= half[:, None]
+            top = np.where(inside, vals, 0.0).max(axis=1)
+            around = np.median(vals, axis=1)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                r_db = 10.0 * np.log10(np.where(around > 0, top / around, 1.0))
+            d_res = np.clip(2.5 * 2.0 ** ((np.nan_to_num(r_db) - 31.5) / 18.0), 2.0, 12.0)
+            extra = (d_res - 2.0) * res
+            a = np.searchsorted(f, flo - extra)
+            b = np.searchsorted(f, fhi + extra, side="right")
+            for r in np.flatnonzero(live & (b > a)):
                 keep[r, a[r]:b[r]] = 0.0
         return keep
 
@@ -668,7 +700,7 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
                     df = state["df"]
                     top = min(psd.shape[2], int(USABLE_BAND * state["fs"] / df) + 2)
                     total = psd[:, :, :top].sum(axis=1)
-                    keep = line_mask(nseg, lo, hi, spread)
+                    keep = line_mask(total, lo, hi, spread)
                     powers.append(line_power(total, lo, hi, spread))
                     rotor_seg.append(value)
                     if predicted:
@@ -681,7 +713,7 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
                         pe = line_power(total, elo, ehi, spread * np.where(good, ratio, 1.0))
                         powers_est.append(pe)
                         hits_seg.append(h)
-                        keep *= np.where(good[:, None], line_mask(nseg, elo, ehi, spread), 1.0)
+                        keep *= np.where(good[:, None], line_mask(total, elo, ehi, spread), 1.0)
                     est_seg.append(est)
                 else:
                     keep = np.ones((nseg, band_psd.shape[2]))
@@ -802,12 +834,28 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
     enough = kept >= np.maximum(2.0, MIN_KEPT * counts_all[:, None])
     with np.errstate(invalid="ignore", divide="ignore"):
         per_bin = np.where(enough[:, None, :], masked / kept[:, None, :], np.nan)
-    # one level per bin, common to the axes, so the axes keep their relative levels
+    # one level per bin, common to the axes, so the axes keep their relative levels;
+    # read where the order lines are masked (their leakage and sweeps would set it)
     level = np.median(whole.sum(axis=1, keepdims=True), axis=2, keepdims=True)
-    level[level <= 0] = 1.0
-    normed = per_bin / level
+    summed = per_bin.sum(axis=1)
+    for i in range(summed.shape[0]):
+        clear = summed[i][np.isfinite(summed[i])]
+        if clear.size >= 0.2 * summed.shape[1]:
+            level[i, 0, 0] = np.median(clear)
+    level[~(level > 0)] = 1.0
     with _pywarnings.catch_warnings():  # a frequency masked in every bin: filled below
         _pywarnings.simplefilter("ignore", RuntimeWarning)
+        # the bins vote on different frequencies (each masks its own lines), so their
+        # levels must agree: each bin's level is refined to its median ratio to the
+        # consensus (twice; a robust alignment of the bins' gains)
+        for _ in range(2):
+            consensus = np.nanmedian(per_bin / level, axis=0).sum(axis=0)  # (f,)
+            for i in range(summed.shape[0]):
+                ratio = summed[i] / consensus
+                ratio = ratio[np.isfinite(ratio) & (ratio > 0)]
+                if ratio.size >= 0.2 * summed.shape[1]:
+                    level[i, 0, 0] = np.median(ratio)
+        normed = per_bin / level
         stationary = np.nanmedian(normed, axis=0)  # (ch, f)
     normed_whole = whole / level
     gap = ~np.isfinite(stationary)
@@ -855,21 +903,42 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
 
     oversample = streamed.nfft / nper
 
-    def estimate(ch: int, pk: Any) -> tuple[Any, Any, float] | None:
-        """Window-corrected half-power figure, band fit and frequency, on one axis."""
+    def estimate(ch: int, pk: Any) -> tuple[Any, Any, float, float] | None:
+        """Window-corrected half-power figure, band fit, frequency and clear share, on one axis.
+
+        The fit runs on the median of only those rotor-rate bins that kept the
+        peak's core (its half-power band) at least three-quarters clear of order
+        lines, so the peak's shape is not pieced together from different bins.
+        The clear share is the part of the recording's segments in those bins.
+        """
         spec = stationary[ch]
         hp = corrected_half_power(freq, spec, pk.index, model, rel_error=rel_err)
         if hp is None:
             return None
         fn = hp.peak_hz
         fit = None
+        # the peak's core: its half-power band, at least two resolution bins each side
+        z0 = hp.damping if hp.damping is not None else 0.0
+        half = max(z0 * fn, 4 * df)
+        near = (freq >= fn - half) & (freq <= fn + half)
+        whole = enough[:, near].mean(axis=1) >= 0.75 if near.any() else np.ones(len(counts_all), bool)
+        share = float(counts_all[whole].sum() / counts_all.sum())
+        if whole.sum() >= 3 and not whole.all():
+            with _pywarnings.catch_warnings():
+                _pywarnings.simplefilter("ignore", RuntimeWarning)
+                local = np.nanmedian(normed[whole, ch, :], axis=0)
+            spec = np.where(np.isfinite(local), local, spec)
+            hp_local = corrected_half_power(freq, spec, pk.index, model, rel_error=rel_err)
+            if hp_local is not None:
+                hp = hp_local
+                fn = hp.peak_hz
         if hp.damping is not None:
             fit = fit_band(freq, spec, hp.peak_hz, hp.damping, model, oversample, LEVEL)
             # the frequency from the model's peak shape (the band fit's slope term can
             # trade against fₙ on a broad peak)
             fn = refine_frequency(freq, spec, hp.peak_hz,
                                   fit.damping if fit is not None else hp.damping, model)
-        return hp, fit, fn
+        return hp, fit, fn, share
 
     modes = _merge_axes(cands, axes, fs / nper, settings.max_modes, estimate, stationary, freq)
     kept_modes = tuple(m for m in modes if m.confidence >= CONFIDENCE_FLOOR)
@@ -969,7 +1038,7 @@ def _merge_axes(cands: list, axes: tuple[str, ...], resolution_hz: float, max_mo
                 break
         else:
             continue
-        hp, fit, fn = got
+        hp, fit, fn, clear = got
         # ... and name the axis where the mode's own response is strongest: the
         # peak's rise above each axis's spectrum beside it ('any' when all are
         # within a factor 2)
@@ -1002,6 +1071,11 @@ def _merge_axes(cands: list, axes: tuple[str, ...], resolution_hz: float, max_mo
             conf = base_conf * 0.6
             method = f"half-power (window-corrected) on the {axes[ch]} spectrum; band fit failed"
             zhp = hp.damping
+        if clear < MIN_CLEAR:
+            # order lines covered the mode for most of the recording: what is left is
+            # too little to stand on
+            conf *= clear / MIN_CLEAR * 0.5
+            method += (f"; order lines covered this mode {100 * (1 - clear):.0f} % of the time")
         out.append(dict(frequency_hz=fn, damping=zeta, damping_low=low,
                         damping_high=min(high, 0.99), axis=axis,
                         confidence=round(conf, 3), method=method, damping_half_power=zhp,
