@@ -638,9 +638,12 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
             live = np.isfinite(flo) & (flo < f[-1]) & (fhi > f[0])
             if not live.any():
                 continue
-            # the line's top and the median level around it, per segment
-            c = np.clip(np.round(0.5 * (flo + fhi) / df).astype(int), 0, nf - 1)
-            half = np.clip(np.round(0.5 * (fhi - flo) / df).astype(int), 1, nf)
+            # the line's top and the median level around it, per segment (rows
+            # without a rate, NaN, are left unmasked)
+            mid = np.nan_to_num(0.5 * (flo + fhi) / df)
+            width = np.nan_to_num(0.5 * (fhi - flo) / df)
+            c = np.clip(np.round(mid).astype(int), 0, nf - 1)
+            half = np.clip(np.round(width).astype(int), 1, nf)
             offs = np.arange(-reach - int(half.max()), reach + int(half.max()) + 1)
             idx = np.clip(c[:, None] + offs[None, :], 0, nf - 1)
             vals = total[rows[:, None], idx]
