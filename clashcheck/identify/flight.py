@@ -379,7 +379,7 @@ class _Occupancy:
             width = max(math.ceil((hi - lo) / DWELL_BANDS / 5.0) * 5.0, 5.0)
             lo = math.floor(lo / 5.0) * 5.0
             nb = max(1, math.ceil((hi - lo) / width))
-            edges = lo + width * np.arange(nb + 1)
+            edges = lo + width * np.arange(nb + 1, dtype=float)
             centres = (np.arange(self.counts.size) + 0.5) * self.step
             which = np.clip(((centres - lo) // width).astype(int), 0, nb - 1)
             share = np.bincount(which, weights=self.counts, minlength=nb) / total
@@ -675,12 +675,11 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
                         throttle_scale[0] = 1.0
                 thr = thr * throttle_scale[0]
                 occupancy.add(thr)
-            if recording.has_rotor:
-                aux_v = run.rotor_hz
-                if not recording.has_throttle:
-                    occupancy.add(aux_v)
-            else:
-                aux_v = thr
+            aux_v = run.rotor_hz if recording.has_rotor else thr
+            if aux_v is None:  # the plan made sure one of the two is there
+                continue
+            if recording.has_rotor and not recording.has_throttle:
+                occupancy.add(aux_v)
             cols = [aux_v, aux_v * aux_v]
             if recording.has_rotor and run.rotor_each_hz is not None:
                 cols += list(run.rotor_each_hz.T)
@@ -1030,7 +1029,7 @@ def _merge_axes(cands: list, axes: tuple[str, ...], resolution_hz: float, max_mo
                 break
         else:
             groups.append([c])
-    out = []
+    out: list[dict[str, Any]] = []
     for g in groups:
         if len(out) >= max_modes:
             break

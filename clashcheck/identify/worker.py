@@ -253,7 +253,8 @@ def _resolve(target: str) -> Callable[..., Any]:
     module, _, name = target.partition(":")
     if not module.startswith(__package__ + ".") or not name.isidentifier():
         raise ValueError(f"unknown pass {target!r}")
-    return getattr(importlib.import_module(module), name)  # type: ignore[no-any-return]
+    found: Callable[..., Any] = getattr(importlib.import_module(module), name)
+    return found
 
 
 def main() -> int:
