@@ -176,3 +176,16 @@ def test_throttle_dwell_shares(tmp_path):
     # of each ramp inside the band of each level (derived: 5.5/12 per band)
     assert d.share[2] == pytest.approx(5.5 / 12, abs=0.02)
     assert d.share[4] == pytest.approx(5.5 / 12, abs=0.02)
+
+
+def test_segments_where_the_log_shows_no_rotor_rate_are_left_alone(tmp_path):
+    # near idle (2 % throttle) the lines, growing as rotor rate squared, are too weak
+    # for the harmonic sum; those segments get no estimate and no mask (no NaN
+    # reaches an index: warnings are errors in this suite)
+    spec = _flight(spread=(0.0,), growth=2.0, duration_s=40.0,
+                   levels=(0.02, 0.4, 0.02, 0.7, 0.02, 0.55))
+    settings = FlightSettings(blades=3, poles=14, rotor_of_throttle=lambda u: 1.25 * curve(u))
+    result = _analyse(tmp_path, spec, Columns(signals=SIG, time_column="t",
+                                              throttle_column="throttle"), settings)
+    assert "estimated from the log" in result.method
+    assert _strengths(result)[1.0] == pytest.approx(spec.true_strengths()[1], rel=0.15)
