@@ -133,7 +133,12 @@ def test_a_child_that_cannot_start_falls_back(flight_csv, monkeypatch, executabl
     one = _analyse(flight_csv, "off", monkeypatch)
     monkeypatch.setattr(sys, "executable", executable)
     assert _analyse(flight_csv, "on", monkeypatch) == one
-    assert started == ([] if executable.startswith("/nonexistent") else [False])
+    if executable.startswith("/nonexistent"):
+        assert started == []  # never spawned
+    else:
+        # /bin/false may end before the request is written (a broken pipe: no child to ask)
+        # or after (the child is asked and ends before it is ready): both fall back.
+        assert started in ([], [False])
 
 
 def test_a_child_that_fails_midway_says_so(flight_csv, monkeypatch):
