@@ -128,5 +128,13 @@ def _modes_flight_options(opts: dict, axes: str | None, build_file: Path | None)
     return out
 
 
+#: Library fields of the recording readers and the analysis band, and the flag that sets each.
+FIELD_FLAGS = {
+    "signals": "--signal", "time_column": "--time-column", "sample_rate_hz": "--rate",
+    "time_scale_s": "--time-unit", "rpm_scale_hz": "--rpm-unit",
+    "min_frequency_hz": "--min-frequency", "max_frequency_hz": "--max-frequency",
+    "resolution_hz": "--resolution",
+}
+
 #: The commands this module adds to the group.
 COMMANDS = (modes_command,)

@@ -56,6 +56,7 @@ from .damping import (
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
 from .result import MeasuredMode, ModesResult, OrderStrength
+from .band import check_band
 from .spectra import SegmentStream, hann_periodic, segment_length
 
 __all__ = ["FlightSettings", "analyse_flight", "stream_flight", "StreamedFlight", "order_families",
@@ -349,6 +350,7 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
             res = (MIN_SEGMENTS + 1) / 2 / max(est_s, 1e-9) * 1.05
             warnings.append(f"the recording is short for {settings.resolution_hz:g} Hz "
                             f"resolution; analysed at {res:.3g} Hz")
+        check_band(fs, settings.min_frequency_hz, fmax, res)
         nper = segment_length(fs, res)
         stream = SegmentStream(fs, nper, nper // 2, nfft=2 * nper)
         mask = (stream.freq_hz >= settings.min_frequency_hz) & (stream.freq_hz <= fmax)

@@ -19,10 +19,12 @@ file, the row or byte, and the problem.
 
 from __future__ import annotations
 
+import csv
 import itertools
 import math
 import os
 import re
+import stat
 import struct
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
@@ -39,10 +41,20 @@ __all__ = [
     "RPM_UNITS",
     "BLOCK_ROWS",
     "PREFETCH",
+    "MAX_FIELDS",
+    "HEADER_BYTES",
+    "MAX_CHANNELS",
 ]
 
 #: Rows per block handed to the analysis (about 3 MB of float64 for 3 axes).
 BLOCK_ROWS = 1 << 17
+
+#: Most columns (CSV fields, .npy columns or fields) a recording may have.
+MAX_FIELDS = 1024
+#: Longest CSV header row read [bytes].
+HEADER_BYTES = 1 << 16
+#: Most WAV channels read.
+MAX_CHANNELS = 64
 
 #: Units accepted for rotor-rate columns.
 RPM_UNITS = ("rpm", "Hz", "erpm")
@@ -74,19 +86,19 @@ class Columns:
 
     def __post_init__(self) -> None:
         if self.signals is not None and len(self.signals) == 0:
-            raise InputError("--signal", "at least one signal column", "")
+            raise InputError("signals", "at least one signal column", "")
         if self.time_column is not None and self.sample_rate_hz is not None:
             raise InputError(
-                "--rate", "either --time-column or --rate, not both", self.sample_rate_hz
+                "sample_rate_hz", "either a time column or a sample rate, not both", self.sample_rate_hz
             )
         if self.sample_rate_hz is not None and not (
             math.isfinite(self.sample_rate_hz) and self.sample_rate_hz > 0
         ):
-            raise InputError("--rate", "a sample rate above 0 Hz", self.sample_rate_hz)
+            raise InputError("sample_rate_hz", "a sample rate above 0 Hz", self.sample_rate_hz)
         if not (math.isfinite(self.time_scale_s) and self.time_scale_s > 0):
-            raise InputError("--time-unit", "a unit of time", self.time_scale_s)
+            raise InputError("time_scale_s", "a unit of time", self.time_scale_s)
         if not (math.isfinite(self.rpm_scale_hz) and self.rpm_scale_hz > 0):
-            raise InputError("--rpm-unit", "one of " + ", ".join(RPM_UNITS), self.rpm_scale_hz)
+            raise InputError("rpm_scale_hz", "one of " + ", ".join(RPM_UNITS), self.rpm_scale_hz)
 
 
 @dataclass
@@ -229,8 +241,15 @@ def open_recording(path: str | os.PathLike[str], columns: Columns) -> Recording:
         If the file type is unknown or the column options do not fit it.
     """
     text = os.fspath(path)
-    if not os.path.isfile(text):
-        raise RecordingError(text, "", "no such file")
+    try:
+        mode = os.stat(text).st_mode
+    except OSError as exc:
+        raise RecordingError(text, "", "no such file" if isinstance(exc, FileNotFoundError)
+                             else f"cannot be read ({exc.strerror})") from None
+    if not stat.S_ISREG(mode):
+        what = ("a folder" if stat.S_ISDIR(mode) else "a FIFO (named pipe)" if stat.S_ISFIFO(mode)
+                else "a device" if stat.S_ISCHR(mode) or stat.S_ISBLK(mode) else "not a regular file")
+        raise RecordingError(text, "", f"{what}; a recording must be a regular file")
     ext = os.path.splitext(text)[1].lower()
     if ext in (".csv", ".txt", ".tsv"):
         return _open_csv(text, columns)
@@ -255,15 +274,24 @@ def _pandas():
     return pandas
 
 
-def _sniff_csv(path: str) -> tuple[list[str], str, int]:
-    """Header names, delimiter and an estimate of the number of data rows."""
+def _sniff_csv(path: str) -> tuple[list[str], str, int, int]:
+    """Header names, delimiter, an estimate of the data rows, and fields per data row.
+
+    The header may be quoted and may end in a delimiter (a trailing empty
+    column); data rows may end in a delimiter too.  Both are recognised here,
+    explicitly, and the reader is told how many fields a row has, so no parser
+    ever guesses an index column from a row that is one field longer.
+    """
     with open(path, "rb") as fh:
-        head = fh.read(1 << 16)
+        head = fh.read(HEADER_BYTES)
     if not head.strip():
         raise RecordingError(path, "row 1", "the file is empty; a header row was expected")
     if b"\x00" in head:
         pos = head.index(b"\x00")
         raise RecordingError(path, f"byte {pos}", "a NUL byte; this is not a text CSV file")
+    if len(head) == HEADER_BYTES and b"\n" not in head and b"\r" not in head:
+        raise RecordingError(path, "row 1", f"the header row is longer than {HEADER_BYTES // 1024} KiB; "
+                             "a CSV recording was expected")
     try:
         text = head.decode("utf-8")
     except UnicodeDecodeError as exc:
@@ -277,16 +305,24 @@ def _sniff_csv(path: str) -> tuple[list[str], str, int]:
         if cand in header:
             delim = cand
             break
-    names = [h.strip() for h in header.split(delim)]
-    if any(not n for n in names) or len(set(names)) != len(names):
-        raise RecordingError(path, "row 1", f"the header row has empty or repeated names: {header!r}")
-    sample = [ln for ln in lines[1:-1] if ln.strip()][:200]
-    size = os.path.getsize(path)
-    if sample:
-        per_row = sum(len(s) + 1 for s in sample) / len(sample)
-        rows = int((size - len(header) - 1) / per_row)
-    else:
-        rows = max(len(lines) - 1, 0)
+    if header.count(delim) >= MAX_FIELDS:
+        raise RecordingError(path, "row 1", f"the header has {header.count(delim) + 1} columns; "
+                             f"at most {MAX_FIELDS} are read")
+    try:
+        names = [h.strip() for h in next(csv.reader([header], delimiter=delim))]
+    except (csv.Error, StopIteration):
+        raise RecordingError(path, "row 1", "the header row is not valid CSV") from None
+    trailing_header = len(names) > 1 and names[-1] == ""
+    if trailing_header:
+        names = names[:-1]
+    empty = [k + 1 for k, n in enumerate(names) if not n]
+    if empty:
+        raise RecordingError(path, "row 1", f"the header row has an empty name in column {empty[0]}")
+    seen: set[str] = set()
+    for n in names:
+        if n in seen:
+            raise RecordingError(path, "row 1", f"the header row repeats the name {n[:40]!r}")
+        seen.add(n)
     try:
         float(names[0])
         numeric = True
@@ -294,7 +330,25 @@ def _sniff_csv(path: str) -> tuple[list[str], str, int]:
         numeric = False
     if numeric:
         raise RecordingError(path, "row 1", "a header row with column names was expected, not numbers")
-    return names, delim, max(rows, 1)
+    complete = text.endswith(("\n", "\r")) or len(head) < HEADER_BYTES
+    sample = [ln for ln in (lines[1:] if complete else lines[1:-1]) if ln.strip()][:200]
+    # a row one field longer than the names, ending in an empty field, is a
+    # trailing delimiter; it is read as one unused empty column
+    extra = 0
+    if sample:
+        longer = sum(1 for ln in sample if ln.count(delim) == len(names)
+                     and ln.rstrip("\r\n \t" if delim != "\t" else "\r\n ").endswith(delim))
+        if trailing_header or longer * 2 > len(sample):
+            extra = 1
+    elif trailing_header:
+        extra = 1
+    size = os.path.getsize(path)
+    if sample:
+        per_row = sum(len(s) + 1 for s in sample) / len(sample)
+        rows = int((size - len(header) - 1) / per_row)
+    else:
+        rows = max(len(lines) - 1, 0)
+    return names, delim, max(rows, 1), len(names) + extra
 
 
 def _pick(path: str, names: Sequence[str], wanted: str, what: str) -> int:
@@ -311,7 +365,7 @@ def _layout(path: str, names: Sequence[str], columns: Columns, default_signals: 
     """Column indices for time, signals, throttle and rotor rates."""
     if columns.signals is None:
         if not default_signals:
-            raise InputError("--signal", "the signal column names, e.g. 'gx,gy,gz'", None)
+            raise InputError("signals", "the signal column names, e.g. 'gx,gy,gz'", None)
         used = {columns.time_column, columns.throttle_column, *columns.rpm_columns}
         sig_names = [n for n in names if n not in used]
     else:
@@ -323,6 +377,9 @@ def _layout(path: str, names: Sequence[str], columns: Columns, default_signals: 
         else _pick(path, names, columns.throttle_column, "throttle")
     )
     rpm = [_pick(path, names, r, "rotor-rate") for r in columns.rpm_columns]
+    if not sig:
+        raise RecordingError(path, "", "no signal columns: every column is the time, throttle or "
+                             "a rotor rate")
     return tcol, sig, thr, rpm, [names[i] for i in sig]
 
 
@@ -337,10 +394,10 @@ def _split(arr: np.ndarray, first_row: int, tcol, sig, thr, rpm, columns: Column
 
 
 def _open_csv(path: str, columns: Columns) -> Recording:
-    names, delim, rows = _sniff_csv(path)
+    names, delim, rows, nfields = _sniff_csv(path)
     if columns.time_column is None and columns.sample_rate_hz is None:
         raise InputError(
-            "--time-column", "a time column (--time-column t) or a sample rate (--rate '8 kHz')",
+            "time_column", "a time column or a sample rate",
             None, "a CSV recording needs one of them",
         )
     tcol, sig, thr, rpm, sig_names = _layout(path, names, columns, default_signals=False)
@@ -352,7 +409,7 @@ def _open_csv(path: str, columns: Columns) -> Recording:
         None if thr is None else pos[thr],
         [pos[i] for i in rpm],
     )
-    ncols = len(names)
+    ncols = nfields
 
     def blocks(block_rows: int) -> Iterator[Block]:
         pd = _pandas()
@@ -372,10 +429,13 @@ def _csv_blocks_pandas(pd, path, delim, names, used, ncols, block_rows, remap,
     try:
         # all columns are tokenised (no usecols), so a row with too many fields is
         # caught; only the used ones must be numbers
+        # the names are given and the header row skipped: the field count is
+        # fixed, a longer row is an error and never becomes an index
+        all_names = list(names) + [f"\x00unused{k}" for k in range(ncols - len(names))]
         reader = pd.read_csv(
-            path, sep=delim, header=0, chunksize=block_rows,
-            dtype={names[c]: np.float64 for c in used}, engine="c", skip_blank_lines=True,
-            encoding="utf-8",
+            path, sep=delim, header=None, skiprows=1, names=all_names, index_col=False,
+            chunksize=block_rows, dtype={names[c]: np.float64 for c in used}, engine="c",
+            skip_blank_lines=True, encoding="utf-8",
         )
         with reader:
             while True:
@@ -389,6 +449,12 @@ def _csv_blocks_pandas(pd, path, delim, names, used, ncols, block_rows, remap,
                     _raise_bad_cell(path, delim, used, first, block_rows, exc)
                 if chunk.shape[1] != ncols:
                     raise RecordingError(path, f"row {first + 2}", "malformed rows (field count)")
+                if ncols > len(names):  # the trailing field must stay empty
+                    extra = chunk.iloc[:, len(names):].notna().to_numpy().any(axis=1)
+                    if extra.any():
+                        row = first + int(np.argmax(extra)) + 2
+                        raise RecordingError(path, f"row {row}", "malformed row (a field beyond the "
+                                             "header's columns)")
                 arr = chunk.iloc[:, used].to_numpy(dtype=np.float64, copy=False)
                 yield _split(arr, first, *remap, columns)
                 first += arr.shape[0]
@@ -480,19 +546,82 @@ def _loadtxt_block(path, lines, delim, used, ncols, first) -> np.ndarray:
 
 # --------------------------------------------------------------------------- WAV
 
+def _wav_header(path: str) -> tuple[int, int, int, int]:
+    """Check a WAV file's chunks before any reader sees it.
+
+    Returns
+    -------
+    channels, rate_hz, bits, data_bytes : int
+        From the ``fmt `` chunk, and the size of the ``data`` chunk.
+
+    Raises
+    ------
+    RecordingError
+        For a missing mark, a missing or short ``fmt `` chunk, zero channels,
+        a zero rate, 8-bit or other unsupported samples, no ``data`` chunk, or
+        a ``data`` chunk cut short by the end of the file.
+    """
+    size = os.path.getsize(path)
+    with open(path, "rb") as fh:
+        head = fh.read(12)
+        if len(head) < 12 or head[:4] not in (b"RIFF", b"RF64"):
+            raise RecordingError(path, "byte 0", "not a RIFF/WAV file (no 'RIFF' mark)")
+        if head[8:12] != b"WAVE":
+            raise RecordingError(path, "byte 8", "a RIFF file but not WAVE audio")
+        pos, fmt, data = 12, None, None
+        for _ in range(1024):  # chunks before the data: a bounded walk
+            if pos + 8 > size:
+                break
+            fh.seek(pos)
+            cid = fh.read(4)
+            (clen,) = struct.unpack("<I", fh.read(4))
+            if cid == b"fmt ":
+                body = fh.read(min(clen, 40))
+                if len(body) < 16:
+                    raise RecordingError(path, f"byte {pos}", "the 'fmt ' chunk is cut short")
+                tag, channels, rate, _brate, _align, bits = struct.unpack("<HHIIHH", body[:16])
+                if tag == 0xFFFE and len(body) >= 26:  # extensible: the real tag leads the sub-format
+                    (tag,) = struct.unpack("<H", body[24:26])
+                fmt = (tag, channels, rate, bits, pos)
+            elif cid == b"data":
+                data = (pos, clen)
+                break
+            pos += 8 + clen + (clen & 1)
+    if fmt is None:
+        raise RecordingError(path, "header", "no 'fmt ' chunk: the WAV header is damaged or cut short")
+    tag, channels, rate, bits, at = fmt
+    if channels == 0:
+        raise RecordingError(path, f"byte {at + 10}", "the WAV header gives 0 channels")
+    if channels > MAX_CHANNELS:
+        raise RecordingError(path, f"byte {at + 10}",
+                             f"{channels} channels; at most {MAX_CHANNELS} are read")
+    if rate == 0:
+        raise RecordingError(path, f"byte {at + 12}", "the WAV header gives a sample rate of 0 Hz")
+    if tag == 1 and bits == 8:
+        raise RecordingError(path, "header", "8-bit samples are too coarse for modal analysis (their "
+                             "rounding shows as false peaks); record at 16 bits or more")
+    if not ((tag == 1 and bits in (16, 24, 32)) or (tag == 3 and bits in (32, 64))):
+        raise RecordingError(path, "header", f"unsupported WAV samples (format {tag}, {bits} bits); "
+                             "16-, 24- or 32-bit integer or 32/64-bit float are read")
+    if data is None:
+        raise RecordingError(path, "header", "no data chunk: the file is cut short or holds no samples")
+    dpos, dlen = data
+    if dlen != 0xFFFFFFFF and dpos + 8 + dlen > size:
+        raise RecordingError(path, f"byte {dpos}", f"the data chunk declares {dlen} bytes but the "
+                             f"file holds {max(size - dpos - 8, 0)}; the file is cut short")
+    return channels, rate, bits, dlen
+
+
 def _open_wav(path: str, columns: Columns) -> Recording:
     import warnings
 
     from scipy.io import wavfile
 
-    with open(path, "rb") as fh:
-        head = fh.read(12)
-    if len(head) < 12 or head[:4] not in (b"RIFF", b"RF64"):
-        raise RecordingError(path, "byte 0", "not a RIFF/WAV file (no 'RIFF' mark)")
-    if head[8:12] != b"WAVE":
-        raise RecordingError(path, "byte 8", "a RIFF file but not WAVE audio")
+    _channels, _rate, _bits, data_bytes = _wav_header(path)
+    if data_bytes == 0:
+        raise RecordingError(path, "header", "the WAV file holds no samples")
     if columns.time_column is not None or columns.throttle_column or columns.rpm_columns:
-        raise InputError("--time-column", "no time, throttle or rotor-rate column for a WAV file",
+        raise InputError("time_column", "no time, throttle or rotor-rate column for a WAV file",
                          columns.time_column or columns.throttle_column or columns.rpm_columns)
     try:
         with warnings.catch_warnings():
@@ -500,7 +629,7 @@ def _open_wav(path: str, columns: Columns) -> Recording:
             rate, data = wavfile.read(path, mmap=True)
     except wavfile.WavFileWarning as exc:
         raise RecordingError(path, "header", f"damaged WAV file ({exc})") from None
-    except (struct.error, EOFError) as exc:
+    except (struct.error, EOFError, OSError, MemoryError) as exc:
         raise RecordingError(path, "header", f"truncated WAV file ({exc})") from None
     except ValueError as exc:
         msg = str(exc)
@@ -509,7 +638,7 @@ def _open_wav(path: str, columns: Columns) -> Recording:
                 with warnings.catch_warnings():
                     warnings.simplefilter("error", wavfile.WavFileWarning)
                     rate, data = wavfile.read(path, mmap=False)
-            except (ValueError, wavfile.WavFileWarning) as exc2:
+            except (ValueError, wavfile.WavFileWarning, struct.error, EOFError, OSError) as exc2:
                 raise RecordingError(path, "header", f"unreadable WAV file ({exc2})") from None
         else:
             raise RecordingError(path, "header", f"unreadable WAV file ({msg})") from None
@@ -551,7 +680,7 @@ def _channel_indices(path: str, wanted: tuple[str, ...] | None, nch: int, what: 
     for w in wanted:
         text = w.removeprefix("ch")
         if not text.isdigit() or int(text) >= nch:
-            raise InputError("--signal", f"{what} numbers 0–{nch - 1} (e.g. '0,1')", w)
+            raise InputError("signals", f"{what} numbers 0–{nch - 1} (e.g. '0,1')", w)
         out.append(int(text))
     return out
 
@@ -559,31 +688,56 @@ def _channel_indices(path: str, wanted: tuple[str, ...] | None, nch: int, what: 
 # --------------------------------------------------------------------------- NPY
 
 def _open_npy(path: str, columns: Columns) -> Recording:
+    with open(path, "rb") as fh:
+        magic = fh.read(6)
+    if magic != b"\x93NUMPY":
+        raise RecordingError(path, "byte 0", "not a NumPy .npy file (no .npy header)")
     try:
         data = np.load(path, mmap_mode="r", allow_pickle=False)
-    except (ValueError, OSError, EOFError) as exc:
-        msg = str(exc).splitlines()[0]
+    except ValueError as exc:
+        if "pickle" in str(exc) or "object" in str(exc):
+            raise RecordingError(path, "header", "the array holds Python objects; only numeric "
+                                 "arrays are read") from None
+        msg = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+        raise RecordingError(path, "header", f"unreadable .npy file ({msg})") from None
+    except (OSError, EOFError, TypeError, SyntaxError, KeyError, struct.error,
+            OverflowError, MemoryError) as exc:
+        msg = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
         raise RecordingError(path, "header", f"unreadable .npy file ({msg})") from None
     if not isinstance(data, np.ndarray):
         raise RecordingError(path, "header", "not a single .npy array")
     if data.dtype.names:
-        names = list(data.dtype.names)
+        if data.ndim != 1:
+            raise RecordingError(path, "header", f"a structured array must be 1-D, not {data.ndim}-D")
+        if len(data.dtype.names) > MAX_FIELDS:
+            raise RecordingError(path, "header", f"{len(data.dtype.names)} fields; at most "
+                                 f"{MAX_FIELDS} are read")
+        names = [str(n) for n in data.dtype.names]
         tcol, sig, thr, rpm, sig_names = _layout(path, names, columns, default_signals=True)
-        fields = names
+        fields = list(data.dtype.names)
+        for i in sorted({i for i in [tcol, thr, *sig, *rpm] if i is not None}):
+            sub = data.dtype.fields[fields[i]][0]
+            if sub.shape != () or sub.kind not in "iuf":
+                raise RecordingError(path, "header", f"field {names[i][:40]!r} holds {sub}; only "
+                                     "plain numbers (integer or float) are read")
 
         def get(rows, i):
             return np.asarray(rows[fields[i]], dtype=np.float64)
 
         nrows = data.shape[0]
-        if data.ndim != 1:
-            raise RecordingError(path, "header", "a structured array must be 1-D")
     else:
         if data.dtype.kind not in "iuf":
-            raise RecordingError(path, "header", f"unsupported array type {data.dtype}")
+            raise RecordingError(path, "header", f"unsupported array type {data.dtype}; only plain "
+                                 "numbers (integer or float) are read")
         if data.ndim == 1:
             data = data[:, None]
         if data.ndim != 2:
             raise RecordingError(path, "header", f"expected a 1-D or 2-D array, got {data.ndim}-D")
+        if data.shape[1] == 0:
+            raise RecordingError(path, "header", "the array has no columns")
+        if data.shape[1] > MAX_FIELDS:
+            raise RecordingError(path, "header", f"{data.shape[1]} columns; at most {MAX_FIELDS} are "
+                                 "read (is the array transposed?)")
         names = [str(i) for i in range(data.shape[1])]
         tcol, sig, thr, rpm, sig_names = _layout(path, names, columns, default_signals=True)
 
@@ -593,7 +747,7 @@ def _open_npy(path: str, columns: Columns) -> Recording:
         nrows = data.shape[0]
     if columns.time_column is None and columns.sample_rate_hz is None:
         raise InputError(
-            "--rate", "a sample rate (--rate '8 kHz') or a time column (--time-column)", None,
+            "sample_rate_hz", "a sample rate or a time column", None,
             "a .npy recording needs one of them",
         )
     if nrows == 0:

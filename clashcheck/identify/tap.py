@@ -28,6 +28,7 @@ import numpy as np
 
 from ..errors import InputError, RecordingError
 from ..model.modes import MODE_AXES
+from .band import check_band
 from .checks import USABLE_BAND, Conditioner, require_duration, require_sample_rate
 from .damping import corrected_half_power, sdof_fit, transient_model
 from .peaks import find_modes_peaks, noise_floor
@@ -212,6 +213,7 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
         fmax = USABLE_BAND * fs
     else:
         require_sample_rate(recording.path, fs, fmax)
+    check_band(fs, settings.min_frequency_hz, fmax, settings.resolution_hz)
     # keep the longest run of clean samples (tap tests rarely have gaps)
     by_run: dict[int, list[np.ndarray]] = {}
     for rid, sig in zip(run_ids, runs):
