@@ -190,7 +190,7 @@ def test_memo_file_lets_a_later_run_skip_pint(tmp_path, repo):
     first = subprocess.run([sys.executable, "-c", env_code], capture_output=True, text=True, env=env,
                            cwd=repo, timeout=60, check=True)
     assert json.loads(first.stdout) == [32.5, True]
-    assert (tmp_path / "units-v1.json").is_file()
+    assert (tmp_path / "units-v2.json").is_file()
     second = subprocess.run([sys.executable, "-c", env_code], capture_output=True, text=True, env=env,
                             cwd=repo, timeout=60, check=True)
     assert json.loads(second.stdout) == [32.5, False]

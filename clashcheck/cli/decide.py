@@ -16,6 +16,7 @@ from ._common import (
     Counts,
     Quantity,
     emit,
+    force_option,
 )
 
 
@@ -28,6 +29,7 @@ from ._common import (
 @click.option("--no-shift", is_flag=True, help="Use B's modes as written (no shift for the change in tip mass).")
 @click.option("--plot", "plot_file", type=PATH, help="Draw both Campbell diagrams side by side here.")
 @click.option("--output", "-o", type=click.Path(path_type=Path), help="Write the report here (atomically).")
+@force_option
 def compare(build_a: Path, build_b: Path, fmt: str, fail_on: str, no_shift: bool, plot_file: Path | None,
             output: Path | None) -> None:
     """Compare build A with a proposed swap B, side by side.
@@ -73,6 +75,7 @@ def compare(build_a: Path, build_b: Path, fmt: str, fail_on: str, no_shift: bool
 @click.option("--top", type=click.IntRange(1, 100), default=5, show_default=True, help="How many to list.")
 @click.option("--format", "fmt", type=FORMATS, default="table", show_default=True, help="Output format.")
 @click.option("--output", "-o", type=click.Path(path_type=Path), help="Write the report here (atomically).")
+@force_option
 def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str | None,
          kv_from: float | None, kv_to: float | None, kv_step: float, hover_low: float, hover_high: float,
          **options) -> None:
@@ -93,7 +96,11 @@ def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str |
         raise InputError("pick --kv-to" if kv_to is None else "pick --kv-from", "both --kv-from and --kv-to",
                          "only one")
     if props is not None and props != "catalog":
+        props_text = props
         props = [p.strip() for p in props.split(",") if p.strip()]
+        if not props:  # ',' is no list, and never means "all catalog props"
+            raise InputError("--props", "'catalog' or catalog propeller ids separated by commas",
+                             props_text)
     build = load_build(build_file)
     space = search_space(build, props=props, hover_range=(hover_low, hover_high),
                          kv_range=None if kv_from is None else (kv_from, kv_to, kv_step),

@@ -11,6 +11,7 @@ from ._common import (
     PATH,
     Quantity,
     emit,
+    force_option,
 )
 
 
@@ -63,6 +64,7 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--resolution", type=Quantity("Hz", "1 Hz"), help="Frequency resolution of the spectra.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @click.option("--output", "-o", type=PATH, help="Also write the modes as a build fragment (TOML).")
+@force_option
 @click.option("--quiet", "-q", is_flag=True, help="No progress bar.")
 def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str | None, fmt: str,
                   output: Path | None, quiet: bool, **opts) -> None:
