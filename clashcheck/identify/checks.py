@@ -59,9 +59,13 @@ __all__ = [
     "GAP_FACTOR",
     "USABLE_BAND",
     "MAX_FILLED_ROWS",
+    "MAX_ABS_VALUE",
     "printed_precision",
 ]
 
+#: Values beyond this magnitude are no measurement: they count as missing, so no
+#: sum of squares or spectrum can overflow.
+MAX_ABS_VALUE = 1e100
 #: Most consecutive rows with missing values that are filled from their neighbours.
 MAX_FILLED_ROWS = 2
 #: Rows per stretch over which the printed precision of the times is judged.
@@ -571,6 +575,11 @@ def _multiples(x: np.ndarray) -> float:
 
 
 def _chunk_precision(c: np.ndarray) -> np.ndarray:
+    with np.errstate(all="ignore"):  # tiny or huge times: a quotient may not be finite
+        return _chunk_precision_of(c)
+
+
+def _chunk_precision_of(c: np.ndarray) -> np.ndarray:
     fixed = 0.0
     span = float(np.ptp(c)) if c.size > 1 else 0.0
     if not (math.isfinite(span) and span > 0):
@@ -587,7 +596,7 @@ def _chunk_precision(c: np.ndarray) -> np.ndarray:
     if nz.any():
         for digits in range(2, 17):  # significant digits
             qd = 10.0 ** (mag[nz] + 1 - digits)
-            if _multiples(c[nz] / qd) >= 0.995:
+            if (qd > 0).all() and _multiples(c[nz] / qd) >= 0.995:
                 out[nz] = np.maximum(out[nz], qd)
                 break
     return out
@@ -647,7 +656,7 @@ def _fill_isolated(block: Block, parts: _Parts,
     starts, ends = edges[::2], edges[1::2]
     ok = (starts > 0) & (ends < n) & (ends - starts <= MAX_FILLED_ROWS)
     if block.time_s is not None:
-        tbad = np.r_[0, np.cumsum(~np.isfinite(block.time_s))]
+        tbad = np.r_[0, np.cumsum(~_usable(block.time_s))]
         ok &= tbad[ends] - tbad[starts] == 0
     if not ok.any():
         return bad, parts, 0
@@ -665,7 +674,7 @@ def _fill_isolated(block: Block, parts: _Parts,
         cols = out[:, None] if out.ndim == 1 else out
         for k in range(cols.shape[1]):
             col = cols[:, k]
-            where = fill & ~np.isfinite(col)
+            where = fill & ~_usable(col)
             if where.any():
                 col[where] = np.interp(idx[where], idx[good], col[good])
         return out
@@ -675,15 +684,21 @@ def _fill_isolated(block: Block, parts: _Parts,
     return (left if left.any() else None), filled, int(np.count_nonzero(fill))
 
 
+def _usable(a: np.ndarray) -> np.ndarray:
+    """True where a value is a number within ±:data:`MAX_ABS_VALUE` (NaN compares false)."""
+    with np.errstate(invalid="ignore"):
+        return np.abs(a) < MAX_ABS_VALUE
+
+
 def _bad_rows(block: Block) -> np.ndarray | None:
-    """Rows with a missing value (NaN, ±inf) in any used column; ``None`` when there are none."""
+    """Rows with a missing value (NaN, ±inf, beyond ±1e100) in any used column; ``None`` if none."""
     arrays = [a for a in (block.signals, block.rotor_hz, block.throttle, block.time_s)
               if a is not None]
-    if all(np.isfinite(a).all() for a in arrays):  # the common case: whole-array checks
+    if all(bool(_usable(a).all()) for a in arrays):  # the common case: whole-array checks
         return None
-    bad = ~np.isfinite(block.signals).all(axis=1)
+    bad = ~_usable(block.signals).all(axis=1)
     for a in arrays[1:]:
-        bad |= ~np.isfinite(a)
+        bad |= ~_usable(a)
     return bad
 
 

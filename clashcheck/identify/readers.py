@@ -300,6 +300,8 @@ def _sniff_csv(path: str) -> tuple[list[str], str, int, int]:
         text = head[: exc.start].decode("utf-8")
     lines = text.splitlines()
     header = lines[0].lstrip("\ufeff")
+    if not header.strip():
+        raise RecordingError(path, "row 1", "the first row is empty; a header row was expected")
     delim = ","
     for cand in (",", ";", "\t"):
         if cand in header:
@@ -312,6 +314,8 @@ def _sniff_csv(path: str) -> tuple[list[str], str, int, int]:
         names = [h.strip() for h in next(csv.reader([header], delimiter=delim))]
     except (csv.Error, StopIteration):
         raise RecordingError(path, "row 1", "the header row is not valid CSV") from None
+    if not names:
+        raise RecordingError(path, "row 1", "the header row holds no names")
     trailing_header = len(names) > 1 and names[-1] == ""
     if trailing_header:
         names = names[:-1]
@@ -342,6 +346,11 @@ def _sniff_csv(path: str) -> tuple[list[str], str, int, int]:
             extra = 1
     elif trailing_header:
         extra = 1
+    first = next((ln for ln in lines[1:] if ln.strip()), None)
+    if first is not None and first.count(delim) + 1 > len(names) + extra:
+        # checked here: the parser would take a longer first row as the row length
+        raise RecordingError(path, "row 2", f"malformed row (expected {len(names) + extra} fields, "
+                             f"saw {first.count(delim) + 1})")
     size = os.path.getsize(path)
     if sample:
         per_row = sum(len(s) + 1 for s in sample) / len(sample)
@@ -385,11 +394,12 @@ def _layout(path: str, names: Sequence[str], columns: Columns, default_signals: 
 
 def _split(arr: np.ndarray, first_row: int, tcol, sig, thr, rpm, columns: Columns) -> Block:
     """Turn a (rows, used columns) array into a Block; columns in ``order``."""
-    time_s = None if tcol is None else arr[:, tcol] * columns.time_scale_s
-    throttle = None if thr is None else arr[:, thr]
-    rotor = None
-    if rpm:
-        rotor = arr[:, rpm].mean(axis=1) * columns.rpm_scale_hz
+    with np.errstate(all="ignore"):  # values out of range become missing, checked later
+        time_s = None if tcol is None else arr[:, tcol] * columns.time_scale_s
+        throttle = None if thr is None else arr[:, thr]
+        rotor = None
+        if rpm:
+            rotor = arr[:, rpm].mean(axis=1) * columns.rpm_scale_hz
     return Block(first_row, time_s, np.ascontiguousarray(arr[:, sig]), throttle, rotor)
 
 
@@ -606,6 +616,10 @@ def _wav_header(path: str) -> tuple[int, int, int, int]:
     if data is None:
         raise RecordingError(path, "header", "no data chunk: the file is cut short or holds no samples")
     dpos, dlen = data
+    (riff_size,) = struct.unpack("<I", head[4:8])
+    if head[:4] == b"RIFF" and riff_size != 0xFFFFFFFF and riff_size + 8 < dpos + 8:
+        raise RecordingError(path, "byte 4", f"the RIFF size ({riff_size} bytes) ends before the "
+                             "data chunk; the header is damaged")
     if dlen != 0xFFFFFFFF and dpos + 8 + dlen > size:
         raise RecordingError(path, f"byte {dpos}", f"the data chunk declares {dlen} bytes but the "
                              f"file holds {max(size - dpos - 8, 0)}; the file is cut short")
@@ -631,6 +645,8 @@ def _open_wav(path: str, columns: Columns) -> Recording:
         raise RecordingError(path, "header", f"damaged WAV file ({exc})") from None
     except (struct.error, EOFError, OSError, MemoryError) as exc:
         raise RecordingError(path, "header", f"truncated WAV file ({exc})") from None
+    except (UnboundLocalError, KeyError, TypeError, IndexError) as exc:  # the parser's own slips
+        raise RecordingError(path, "header", f"damaged WAV header ({type(exc).__name__})") from None
     except ValueError as exc:
         msg = str(exc)
         if "mmap" in msg.lower() or "24" in msg:
@@ -638,7 +654,8 @@ def _open_wav(path: str, columns: Columns) -> Recording:
                 with warnings.catch_warnings():
                     warnings.simplefilter("error", wavfile.WavFileWarning)
                     rate, data = wavfile.read(path, mmap=False)
-            except (ValueError, wavfile.WavFileWarning, struct.error, EOFError, OSError) as exc2:
+            except (ValueError, wavfile.WavFileWarning, struct.error, EOFError, OSError,
+                    UnboundLocalError, KeyError, TypeError, IndexError) as exc2:
                 raise RecordingError(path, "header", f"unreadable WAV file ({exc2})") from None
         else:
             raise RecordingError(path, "header", f"unreadable WAV file ({msg})") from None
@@ -700,8 +717,8 @@ def _open_npy(path: str, columns: Columns) -> Recording:
                                  "arrays are read") from None
         msg = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
         raise RecordingError(path, "header", f"unreadable .npy file ({msg})") from None
-    except (OSError, EOFError, TypeError, SyntaxError, KeyError, struct.error,
-            OverflowError, MemoryError) as exc:
+    except Exception as exc:  # noqa: BLE001 - numpy parses the header text with Python's own
+        # tokenizer and literal evaluator; whatever they raise on a damaged header means the same
         msg = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
         raise RecordingError(path, "header", f"unreadable .npy file ({msg})") from None
     if not isinstance(data, np.ndarray):
@@ -717,7 +734,7 @@ def _open_npy(path: str, columns: Columns) -> Recording:
         fields = list(data.dtype.names)
         for i in sorted({i for i in [tcol, thr, *sig, *rpm] if i is not None}):
             sub = data.dtype.fields[fields[i]][0]
-            if sub.shape != () or sub.kind not in "iuf":
+            if sub.shape != () or sub.kind not in "iuf" or sub.itemsize > 8:
                 raise RecordingError(path, "header", f"field {names[i][:40]!r} holds {sub}; only "
                                      "plain numbers (integer or float) are read")
 
@@ -726,7 +743,7 @@ def _open_npy(path: str, columns: Columns) -> Recording:
 
         nrows = data.shape[0]
     else:
-        if data.dtype.kind not in "iuf":
+        if data.dtype.kind not in "iuf" or data.dtype.itemsize > 8:
             raise RecordingError(path, "header", f"unsupported array type {data.dtype}; only plain "
                                  "numbers (integer or float) are read")
         if data.ndim == 1:
@@ -753,16 +770,20 @@ def _open_npy(path: str, columns: Columns) -> Recording:
     if nrows == 0:
         raise RecordingError(path, "header", "the array holds no rows")
 
-    def blocks(block_rows: int) -> Iterator[Block]:
-        for start in range(0, nrows, block_rows):
-            rows = data[start:start + block_rows]
+    def block_at(start: int, block_rows: int) -> Block:
+        rows = data[start:start + block_rows]
+        with np.errstate(all="ignore"):  # values out of range become missing, checked later
             sigs = np.column_stack([get(rows, i) for i in sig])
             time_s = None if tcol is None else get(rows, tcol) * columns.time_scale_s
             throttle = None if thr is None else get(rows, thr)
             rotor = None
             if rpm:
                 rotor = np.mean([get(rows, i) for i in rpm], axis=0) * columns.rpm_scale_hz
-            yield Block(start, time_s, sigs, throttle, rotor)
+        return Block(start, time_s, sigs, throttle, rotor)
+
+    def blocks(block_rows: int) -> Iterator[Block]:
+        for start in range(0, nrows, block_rows):
+            yield block_at(start, block_rows)
 
     return Recording(path, "npy", tuple(sig_names), columns.sample_rate_hz, None, nrows,
                      thr is not None, bool(rpm), blocks, columns)
