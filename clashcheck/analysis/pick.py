@@ -74,6 +74,7 @@ __all__ = [
     "score_candidates",
     "rank",
     "pick",
+    "MAX_CANDIDATES",
 ]
 
 #: What a user may pin.
@@ -82,6 +83,9 @@ PIN_NAMES = ("motor", "kv", "poles", "prop", "cells")
 DEFAULT_HOVER_RANGE = (0.25, 0.50)
 #: Candidates scored per block (bounds memory: block × states × modes × orders).
 _BLOCK = 2048
+#: Most candidates in one search (the product of all axes): checked before any
+#: axis is built or scored (about 30 s and 300 MB at this size; see the README).
+MAX_CANDIDATES = 200_000
 #: Default propeller search: catalog props from this share of the build's diameter up to it.
 _PROP_DIAMETER_SHARE = 0.8
 #: Default motor search: catalog motors from half to twice the build motor's mass.
@@ -137,6 +141,10 @@ class SearchSpace:
         for name, axis in (("motors", self.motors), ("props", self.props), ("cells", self.cells)):
             if not axis:
                 raise InputError(f"pick {name}", "at least one candidate (an empty candidate set)", [])
+        size = self.size
+        if size > MAX_CANDIDATES:
+            raise InputError("pick", f"at most {MAX_CANDIDATES} candidates (the product of all axes)",
+                             " × ".join(str(n) for n in self.shape) + f" = {size}")
         for n in self.cells:
             if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= 24:
                 raise InputError("pick --cells", "cell counts from 1 to 24", n)
@@ -384,8 +392,10 @@ def search_space(
             raise InputError("pick --kv-to", "a Kv at or above --kv-from (an empty candidate set)",
                              f"{60 * high:g} rpm/V < {60 * low:g} rpm/V")
         count = int(math.floor((high - low) / step * (1 + 1e-12))) + 1
-        if count > 1_000_000:
-            raise InputError("pick --kv-step", "at most 1000000 Kv values", count)
+        others = max(len(set(poles)), 1) * max(len(set(cells)), 1)
+        if count * others > MAX_CANDIDATES:  # before the Kv axis is built
+            raise InputError("pick --kv-step", f"at most {MAX_CANDIDATES} candidates (Kv values × pole "
+                             "counts × cell counts × props)", f"{count} Kv values × {others}")
         kvs = low + step * np.arange(count)
         motor_axis = tuple(MotorOption(f"Kv {60 * kv:.0f} rpm/V", kv_variant(build.motor, float(kv)), "kv sweep")
                            for kv in kvs)

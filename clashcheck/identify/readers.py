@@ -44,6 +44,7 @@ __all__ = [
     "MAX_FIELDS",
     "HEADER_BYTES",
     "MAX_CHANNELS",
+    "MAX_SIGNALS",
 ]
 
 #: Rows per block handed to the analysis (about 3 MB of float64 for 3 axes).
@@ -55,6 +56,11 @@ MAX_FIELDS = 1024
 HEADER_BYTES = 1 << 16
 #: Most WAV channels read.
 MAX_CHANNELS = 64
+#: Most signal columns analysed together.
+MAX_SIGNALS = 16
+#: Most cells (rows × fields) the CSV parser holds at once, so a wide file
+#: is read in shorter blocks instead of a larger allocation.
+MAX_BLOCK_CELLS = 1 << 20
 
 #: Units accepted for rotor-rate columns.
 RPM_UNITS = ("rpm", "Hz", "erpm")
@@ -386,6 +392,9 @@ def _layout(path: str, names: Sequence[str], columns: Columns, default_signals: 
         else _pick(path, names, columns.throttle_column, "throttle")
     )
     rpm = [_pick(path, names, r, "rotor-rate") for r in columns.rpm_columns]
+    if len(sig) > MAX_SIGNALS:
+        raise InputError("signals", f"at most {MAX_SIGNALS} signal columns", f"{len(sig)} columns",
+                         "name the ones to analyse")
     if not sig:
         raise RecordingError(path, "", "no signal columns: every column is the time, throttle or "
                              "a rotor rate")
@@ -441,10 +450,11 @@ def _csv_blocks_pandas(pd, path, delim, names, used, ncols, block_rows, remap,
         # caught; only the used ones must be numbers
         # the names are given and the header row skipped: the field count is
         # fixed, a longer row is an error and never becomes an index
+        chunk_rows = max(256, min(block_rows, MAX_BLOCK_CELLS // ncols))
         all_names = list(names) + [f"\x00unused{k}" for k in range(ncols - len(names))]
         reader = pd.read_csv(
             path, sep=delim, header=None, skiprows=1, names=all_names, index_col=False,
-            chunksize=block_rows, dtype={names[c]: np.float64 for c in used}, engine="c",
+            chunksize=chunk_rows, dtype={names[c]: np.float64 for c in used}, engine="c",
             skip_blank_lines=True, encoding="utf-8",
         )
         with reader:
@@ -456,7 +466,7 @@ def _csv_blocks_pandas(pd, path, delim, names, used, ncols, block_rows, remap,
                 except pd.errors.ParserError:
                     raise
                 except ValueError as exc:  # a cell that is not a number
-                    _raise_bad_cell(path, delim, used, first, block_rows, exc)
+                    _raise_bad_cell(path, delim, used, first, chunk_rows, exc)
                 if chunk.shape[1] != ncols:
                     raise RecordingError(path, f"row {first + 2}", "malformed rows (field count)")
                 if ncols > len(names):  # the trailing field must stay empty

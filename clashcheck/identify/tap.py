@@ -43,7 +43,7 @@ MAX_SEGMENT_S = 8.0
 #: Energy rise (ratio) that marks an impact.
 ONSET_RATIO = 30.0
 #: Longest tap recording read [rows]; tap tests are short.
-MAX_TAP_ROWS = 1 << 25
+MAX_TAP_ROWS = 1 << 24
 #: A peak's prominence must exceed this many standard deviations of the
 #: averaged noise at its bin.
 SIGNIFICANCE = 5.0
@@ -195,6 +195,9 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
     runs: list[np.ndarray] = []
     run_ids: list[int] = []
     rows = 0
+    if recording.rows_estimate * len(recording.signal_names) > MAX_TAP_ROWS:  # before reading
+        raise RecordingError(recording.path, "", f"a tap recording of more than {MAX_TAP_ROWS} "
+                             "samples (rows × channels); trim it to the impacts")
     for block in recording.blocks():
         for run in cond.feed(block):
             runs.append(run.signals)
