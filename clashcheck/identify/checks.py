@@ -20,6 +20,12 @@ says so in plain words:
   nothing is resampled (interpolating at rounded times would make false
   lines).  Both figures are reported: the apparent jitter and the real jitter
   left once the rounding's own share (``q²/12``) is taken out.
+- **Throttle units.**  A throttle column may hold a fraction (0–1), a percent
+  (0–100) or an actuator pulse width (1000–2000 µs).  Unless the unit is
+  stated (``Columns.throttle_unit``), it is told from the range of the first
+  block's values, said in a warning, and every block is turned into a
+  fraction; values outside every range, or a later block outside the range
+  chosen, are refused with a hint to state the unit.
 - **Missing values in isolated rows** (one or two rows, e.g. short rows of a
   CSV export) between clean rows are filled by linear interpolation from
   their neighbours, counted and reported, so 2 % of short rows do not cut a
@@ -45,7 +51,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..errors import RecordingError
+from ..errors import InputError, RecordingError
 from .readers import Block, Recording
 
 __all__ = [
@@ -217,6 +223,8 @@ class Conditioner:
         self._rounded = False
         self._repeats = 0
         self._filled = 0
+        self._throttle_unit: str | None = None
+        self._notes: list[str] = []
 
     # ------------------------------------------------------------ public
     @property
@@ -230,6 +238,8 @@ class Conditioner:
         self._rows_read += n
         if n == 0:
             return
+        if block.throttle is not None:
+            block.throttle = self._throttle_fraction(block.throttle, block.first_row)
         parts = _Parts(block.signals, block.rotor_hz, block.throttle)
         bad = _bad_rows(block)
         if bad is not None:
@@ -257,6 +267,7 @@ class Conditioner:
             f.jitter = math.sqrt(var) / self._dt
             f.resampled = bool(self._resample)
         f.rows_filled = self._filled
+        f.warnings.extend(self._notes)
         f.time_precision_s = self._q_max
         if self._rounded and not f.resampled:
             f.rounded_uniform = True
@@ -507,6 +518,43 @@ class Conditioner:
     def _break(self) -> None:
         self._run += 1
         self._grid_next = None
+
+    def _throttle_fraction(self, thr: np.ndarray, first_row: int) -> np.ndarray:
+        """The throttle as a fraction, its unit stated or told from the values."""
+        with np.errstate(invalid="ignore"):
+            ok = thr[np.abs(thr) < MAX_ABS_VALUE]
+        if self._throttle_unit is None:
+            if ok.size == 0:
+                return thr
+            lo, hi = float(ok.min()), float(ok.max())
+            unit = self.rec.columns.throttle_unit if self.rec.columns is not None else None
+            if unit is None:
+                if lo >= -0.05 and hi <= 1.5:
+                    unit = "fraction"
+                elif lo >= -5 and hi <= 105:
+                    unit = "percent"
+                elif lo >= 800 and hi <= 2200:
+                    unit = "us"
+                else:
+                    raise InputError("throttle_unit", "a throttle column as a fraction (0–1), a percent "
+                                     "(0–100) or a pulse width (1000–2000 µs)",
+                                     f"values from {lo:g} to {hi:g}", "state its unit")
+                if unit != "fraction":
+                    self._notes.append(
+                        f"the throttle column reads from {lo:g} to {hi:g}: taken as "
+                        + ("percent" if unit == "percent" else "a 1000–2000 µs pulse width")
+                        + " (state the unit to be sure)")
+            self._throttle_unit = unit
+        unit = self._throttle_unit
+        out = thr if unit == "fraction" else (thr * 0.01 if unit == "percent" else (thr - 1000.0) / 1000.0)
+        with np.errstate(invalid="ignore"):
+            off = (out < -0.1) | (out > 1.5)
+        if off.any():
+            k = int(np.argmax(off))
+            raise RecordingError(self.rec.path, _row(self.rec, first_row + k),
+                                 f"throttle {thr[k]:g} is outside the range of the {unit} unit taken "
+                                 "from the first rows; state the throttle unit")
+        return out
 
     def _rounding_explains(self, text: np.ndarray, q: np.ndarray, brk: np.ndarray) -> bool:
         """True when every time lies within its printed precision of a line through the index.

@@ -39,6 +39,7 @@ __all__ = [
     "Recording",
     "open_recording",
     "RPM_UNITS",
+    "THROTTLE_UNITS",
     "BLOCK_ROWS",
     "PREFETCH",
     "MAX_FIELDS",
@@ -62,6 +63,9 @@ MAX_SIGNALS = 16
 #: is read in shorter blocks instead of a larger allocation.
 MAX_BLOCK_CELLS = 1 << 20
 
+#: Units accepted for throttle columns.
+THROTTLE_UNITS = ("fraction", "percent", "us")
+
 #: Units accepted for rotor-rate columns.
 RPM_UNITS = ("rpm", "Hz", "erpm")
 
@@ -83,8 +87,11 @@ class Columns:
     time_scale_s: float = 1.0
     #: Stated sample rate [Hz]; ``None`` when it comes from the file.
     sample_rate_hz: float | None = None
-    #: Column holding the throttle (fraction 0–1 or percent 0–100).
+    #: Column holding the throttle (fraction 0–1, percent 0–100 or pulse width 1000–2000 µs).
     throttle_column: str | None = None
+    #: Unit of the throttle column: ``"fraction"``, ``"percent"``, ``"us"`` (a 1000–2000 µs
+    #: pulse width), or ``None`` to tell from the values.
+    throttle_unit: str | None = None
     #: Columns holding rotor rates, one per motor; averaged.
     rpm_columns: tuple[str, ...] = ()
     #: Multiply rotor-rate column values by this to get rotor rate [Hz].
@@ -103,6 +110,10 @@ class Columns:
             raise InputError("sample_rate_hz", "a sample rate above 0 Hz", self.sample_rate_hz)
         if not (math.isfinite(self.time_scale_s) and self.time_scale_s > 0):
             raise InputError("time_scale_s", "a unit of time", self.time_scale_s)
+        if self.throttle_unit not in (None, *THROTTLE_UNITS):
+            raise InputError("throttle_unit", "one of " + ", ".join(THROTTLE_UNITS), self.throttle_unit)
+        if self.sample_rate_hz is not None and self.sample_rate_hz > 1e6:
+            raise InputError("sample_rate_hz", "a sample rate up to 1 MHz", self.sample_rate_hz)
         if not (math.isfinite(self.rpm_scale_hz) and self.rpm_scale_hz > 0):
             raise InputError("rpm_scale_hz", "one of " + ", ".join(RPM_UNITS), self.rpm_scale_hz)
 
