@@ -63,6 +63,8 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--resolution", type=Quantity("Hz", "1 Hz"), help="Frequency resolution of the spectra.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @click.option("--output", "-o", type=PATH, help="Also write the modes as a build fragment (TOML).")
+@click.option("--include-candidates", is_flag=True,
+              help="Also write weak or flagged peaks (confidence below the floor) as modes.")
 @click.option("--quiet", "-q", is_flag=True, help="No progress bar.")
 def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str | None, fmt: str,
                   output: Path | None, quiet: bool, **opts) -> None:
@@ -89,7 +91,8 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
     rec = open_recording(recording, columns)
     band = dict(min_frequency_hz=opts["min_frequency"], max_frequency_hz=opts["max_frequency"])
     if kind == "tap":
-        settings = TapSettings(resolution_hz=opts["resolution"], **band)
+        settings = TapSettings(resolution_hz=opts["resolution"],
+                               include_candidates=opts["include_candidates"], **band)
         analyse = analyse_tap
     else:
         settings = FlightSettings(**band, **_modes_flight_options(opts, axes, build_file))
@@ -127,6 +130,14 @@ def _modes_flight_options(opts: dict, axes: str | None, build_file: Path | None)
         out["rotor_of_throttle"] = drive.rotor_hz  # nominal pack; a bound method pickles
     return out
 
+
+#: Library fields (TapSettings, FlightSettings) and the flags that set them.
+FIELD_FLAGS = {
+    "min_frequency_hz": "--min-frequency",
+    "max_frequency_hz": "--max-frequency",
+    "resolution_hz": "--resolution",
+    "include_candidates": "--include-candidates",
+}
 
 #: The commands this module adds to the group.
 COMMANDS = (modes_command,)

@@ -8,12 +8,18 @@ from dataclasses import dataclass
 from ..errors import InputError
 from ..model.modes import MODE_AXES
 
-__all__ = ["MeasuredMode", "OrderStrength", "ModesResult", "ORDER_FAMILIES", "KINDS"]
+__all__ = ["MeasuredMode", "OrderStrength", "ModesResult", "ORDER_FAMILIES", "KINDS",
+           "CONFIDENCE_FLOOR"]
 
 #: Families an order strength can carry (``custom`` when the family is not known).
 ORDER_FAMILIES = ("rotor", "blade", "electrical", "commutation", "cogging", "custom")
 #: Kinds of recording.
 KINDS = ("tap", "flight")
+#: Modes whose confidence is below this floor are not written to the modes
+#: file: they are listed as candidates (``ModesResult.candidates``) unless the
+#: analysis is asked to include them (``include_candidates``).  At 0.3 a tap-test
+#: peak needs about 14 dB over the noise with agreeing damping estimates.
+CONFIDENCE_FLOOR = 0.3
 
 
 @dataclass(frozen=True)
@@ -102,6 +108,11 @@ class ModesResult:
     warnings: tuple[str, ...] = ()
     #: Number of impacts averaged (tap) or spectral segments used (flight).
     averages: int = 0
+    #: Weak or doubtful peaks kept out of ``modes`` (confidence below
+    #: :data:`CONFIDENCE_FLOOR`, or flagged), by frequency; never written to a modes file.
+    candidates: tuple[MeasuredMode, ...] = ()
+    #: Onset of each impact used (tap tests) [s from the start of the analysed stretch].
+    impact_times_s: tuple[float, ...] = ()
 
     def __post_init__(self) -> None:
         if self.kind not in KINDS:

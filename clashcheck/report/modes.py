@@ -13,7 +13,7 @@ import json
 import math
 from typing import Any
 
-from ..identify.result import ModesResult
+from ..identify.result import CONFIDENCE_FLOOR, MeasuredMode, ModesResult
 from .common import CAUTIONS
 
 __all__ = ["to_json_dict", "render_json", "render_table", "render_toml", "CAUTIONS"]
@@ -25,17 +25,17 @@ def _r(x: float | None, nd: int = 6) -> float | None:
 
 
 def to_json_dict(result: ModesResult) -> dict[str, Any]:
-    """The JSON form: ``modes[]``, ``orders[]`` (flight) and ``warnings[]``, plus context.
+    """The JSON form: ``modes[]``, ``candidates[]``, ``orders[]`` (flight) and ``warnings[]``, plus context.
 
     Examples
     --------
     >>> from clashcheck.identify.result import ModesResult
     >>> r = ModesResult("tap.wav", "tap", "tap test", 8000.0, 12.0, 0.5, ())
     >>> sorted(to_json_dict(r))
-    ['cautions', 'kind', 'method', 'modes', 'orders', 'recording', 'resolution_hz', 'sample_rate_hz', 'warnings']
+    ['candidates', 'cautions', 'kind', 'method', 'modes', 'orders', 'recording', 'resolution_hz', 'sample_rate_hz', 'warnings']
     """
-    modes = [
-        {
+    def mode(m: MeasuredMode) -> dict[str, Any]:
+        return {
             "name": m.name,
             "frequency_hz": _r(m.frequency_hz, 3),
             "damping": _r(m.damping),
@@ -45,8 +45,8 @@ def to_json_dict(result: ModesResult) -> dict[str, Any]:
             "confidence": _r(m.confidence, 3),
             "method": m.method,
         }
-        for m in result.modes
-    ]
+
+    modes = [mode(m) for m in result.modes]
     orders = [
         {"order": o.order, "family": o.family, "relative_strength": _r(o.relative_strength, 4)}
         for o in result.orders
@@ -58,6 +58,7 @@ def to_json_dict(result: ModesResult) -> dict[str, Any]:
         "sample_rate_hz": _r(result.sample_rate_hz, 3),
         "resolution_hz": _r(result.resolution_hz, 4),
         "modes": modes,
+        "candidates": [mode(m) for m in result.candidates],
         "orders": orders,
         "warnings": list(result.warnings),
         "cautions": list(CAUTIONS),
@@ -103,6 +104,13 @@ def render_table(result: ModesResult) -> str:
         lines.append(tabulate(rows, headers=head, tablefmt="simple", disable_numparse=True))
     else:
         lines.append("no modes found")
+    if result.candidates:
+        lines += ["", f"candidates (confidence below {CONFIDENCE_FLOOR:g} or flagged; not written "
+                      "to the modes file unless candidates are included):",
+                  tabulate([[m.name, f"{m.frequency_hz:.1f}", _fmt_z(m.damping),
+                             f"{m.confidence:.2f}", m.method] for m in result.candidates],
+                           headers=["candidate", "frequency (Hz)", "damping ζ", "confidence",
+                                    "why"], tablefmt="simple", disable_numparse=True)]
     if result.orders:
         lines += ["", tabulate(
             [[f"{o.order:g}", o.family, f"{o.relative_strength:.3f}"] for o in result.orders],
@@ -185,6 +193,11 @@ def render_toml(result: ModesResult, today: _dt.date | None = None) -> str:
         lines.append(f"source = {_toml_string(source)}")
         lines.append(f"confidence = {_toml_float(m.confidence)}")
         lines.append(f"method = {_toml_string(m.method)}")
+        lines.append("")
+    for m in result.candidates:
+        lines.append(_comment(f"candidate, not a mode (confidence {m.confidence:.2f}): "
+                              f"{m.frequency_hz:.2f} Hz; {m.method}"))
+    if result.candidates:
         lines.append("")
     for o in result.orders:
         lines.append("[[order_strengths]]")
