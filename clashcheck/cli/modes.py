@@ -3,9 +3,14 @@
 from __future__ import annotations
 
 import sys
+from collections.abc import Callable
 from pathlib import Path
+from typing import TYPE_CHECKING, Any
 
 import click
+
+if TYPE_CHECKING:
+    from ..identify import ModesResult
 
 from ._common import (
     PATH,
@@ -90,6 +95,8 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
                              opts.pop("rpm_unit"), opts["poles"])
     rec = open_recording(recording, columns)
     band = dict(min_frequency_hz=opts["min_frequency"], max_frequency_hz=opts["max_frequency"])
+    settings: Any  # TapSettings or FlightSettings, matching `analyse`
+    analyse: Callable[..., ModesResult]
     if kind == "tap":
         settings = TapSettings(resolution_hz=opts["resolution"],
                                include_candidates=opts["include_candidates"], **band)

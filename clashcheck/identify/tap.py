@@ -23,13 +23,14 @@ import math
 import os
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import TypeGuard
 
 import numpy as np
 
 from ..errors import InputError, RecordingError
 from ..model.modes import MODE_AXES
 from .checks import USABLE_BAND, Conditioner, require_duration, require_sample_rate
-from .damping import corrected_half_power, sdof_fit, transient_model
+from .damping import SdofFit, corrected_half_power, sdof_fit, transient_model
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
 from .result import CONFIDENCE_FLOOR, MeasuredMode, ModesResult
@@ -574,6 +575,22 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
                                   rel_error=1.0 / math.sqrt(onsets.size))
         if hp is not None:
             found.append((pk, hp))
+    harmonic_modes: list[dict] = []
+    if all_clipped:  # flag harmonics of clipping before the decay fit (they need no fit)
+        probe = [dict(frequency_hz=hp.peak_hz, prominence_db=pk.snr_db) for pk, hp in found]
+        flags = _clipping_harmonics(probe, resolution)
+        for i in sorted(flags):
+            pk, hp = found[i]
+            zeta_h = hp.damping
+            harmonic_modes.append(dict(
+                frequency_hz=hp.peak_hz, damping=zeta_h,
+                damping_low=hp.damping_low if zeta_h is not None else 0.0,
+                damping_high=min(hp.damping_high, 0.99), axis=settings.axis,
+                confidence=round(min(_confidence(pk.snr_db, None, hp.bound_only),
+                                     0.5 * CONFIDENCE_FLOOR), 3),
+                method=f"half-power only; possible harmonic of clipping ({flags[i]})",
+                damping_half_power=zeta_h, damping_decay=None, prominence_db=round(pk.snr_db, 2)))
+        found = [fh for i, fh in enumerate(found) if i not in flags]
     skip = pre + max(1, int(round(1e-3 * fs)))
     noise_rms = float(np.std(lead[:, chan])) if len(lead) >= pre else 0.0
     fitted = _decay_fits(segs[:, :, chan], fs, found, skip, resolution, noise_rms)
@@ -645,13 +662,11 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
             method="; ".join(parts), damping_half_power=zeta_hp, damping_decay=decay,
             prominence_db=round(pk.snr_db, 2),
         ))
+    modes.extend(harmonic_modes)
     modes.sort(key=lambda m: m["frequency_hz"])
-    flagged = _clipping_harmonics(modes, resolution) if all_clipped else set()
-    keep_modes, cands = [], []
-    for i, m in enumerate(modes):
-        if i in flagged:
-            m["method"] += f"; possible harmonic of clipping ({flagged[i]})"
-            m["confidence"] = min(m["confidence"], round(0.5 * CONFIDENCE_FLOOR, 3))
+    keep_modes: list[dict] = []
+    cands: list[dict] = []
+    for m in modes:
         weak = m["confidence"] < CONFIDENCE_FLOOR
         (cands if weak and not settings.include_candidates else keep_modes).append(m)
     if cands:
@@ -693,7 +708,7 @@ def _decay_fits(free: np.ndarray, fs: float, found: list, skip: int,
     leaves is no more than the sensor noise (RMS ``noise_rms``, from the lead-in).
     """
 
-    def clean(fit) -> bool:
+    def clean(fit: SdofFit | None) -> TypeGuard[SdofFit]:
         return fit is not None and (fit.r_squared >= 0.8 or (
             fit.r_squared >= 0.3 and noise_rms > 0 and fit.residual_rms <= 1.3 * noise_rms))
 
@@ -769,7 +784,7 @@ def _pair_modes(pk, hp, members: list[int], fitted: _Fitted, axis: str,
     return out
 
 
-def _clipping_harmonics(modes: list[dict], resolution: float) -> dict[int, str]:
+def _clipping_harmonics(modes: list[dict], resolution: float) -> dict[int, str]:  # noqa: D401
     """Modes at a whole multiple (2–10×) of a stronger mode: index → "n × f₀"."""
     out: dict[int, str] = {}
     order = sorted(range(len(modes)), key=lambda i: -modes[i]["prominence_db"])
