@@ -105,10 +105,11 @@ def detect_impacts(energy: np.ndarray, sample_rate_hz: float, min_gap_s: float =
       ten frames ending two frames before it (strong taps over a ringing frame);
     - a *burst out of the noise* (weak taps, down to a peak SNR of about
       15 dB): the mean energy of four frames exceeds the level that Gaussian
-      noise reaches with probability 10⁻⁶ (chi-squared with the frames' degrees
-      of freedom; the noise level is the 10th percentile of the frames,
-      corrected to a mean), at least 4× what came before, while the ten frames
-      before stay at the noise level.
+      noise reaches with probability 10⁻⁶ (chi-squared with the frames'
+      degrees of freedom, and at least 3×) over the background (the median of
+      such four-frame means), at least 4× what came before, while the ten
+      frames before stay at the background level and the 150 ms before hold
+      nothing above 3× it.
 
     Parameters
     ----------
@@ -126,7 +127,7 @@ def detect_impacts(energy: np.ndarray, sample_rate_hz: float, min_gap_s: float =
     ndarray of int
         Onset samples, ascending.
     """
-    from scipy import signal, stats
+    from scipy import ndimage, signal, stats
 
     frame = max(1, int(round(1e-3 * sample_rate_hz)))
     nfr = len(energy) // frame
@@ -148,10 +149,16 @@ def detect_impacts(energy: np.ndarray, sample_rate_hz: float, min_gap_s: float =
     # weak taps: four frames ahead against the noise's chi-squared tail
     dof = 4 * frame * max(1, channels)
     ahead = (c[np.minimum(j + 4, nfr)] - c[j]) / np.minimum(4, nfr - j)
-    noise = float(np.percentile(ahead, 10)) / (stats.chi2.ppf(0.1, dof) / dof)
-    noise = max(noise, np.finfo(float).tiny)
+    # the background: the median of the four-frame means (steady hum, whose energy
+    # swings within each cycle, then counts as background, not as bursts)
+    noise = max(float(np.median(ahead)), np.finfo(float).tiny)
     level = max(3.0, float(stats.chi2.isf(1e-6, dof) / dof)) * noise
-    burst = (ahead >= level) & (ahead >= 4.0 * before) & (before <= 2.0 * noise) & (j >= 2)
+    # ... and nothing above the background in the 150 ms before (a beat between a
+    # decaying mode and hum or a neighbour swells again after each null)
+    back = ndimage.maximum_filter1d(ahead, size=147, origin=73, mode="nearest")  # j-146..j
+    back = np.r_[np.full(4, back[0]), back[:-4]]  # frames j-150..j-4
+    burst = ((ahead >= level) & (ahead >= 4.0 * before) & (before <= 2.0 * noise)
+             & (back <= 3.0 * noise) & (j >= 12))
     edges = np.flatnonzero(burst & ~np.r_[False, burst[:-1]])
     cands = np.unique(np.r_[idx, edges])
     gap = max(1, int(min_gap_s * 1000))
@@ -159,6 +166,17 @@ def detect_impacts(energy: np.ndarray, sample_rate_hz: float, min_gap_s: float =
     for k in cands:
         if not kept or k - kept[-1] >= gap:
             kept.append(int(k))
+    # a weak burst less than half the usual spacing after a tap is taken as the
+    # tap's own ringing swelling again (a slow beat), not as a new tap
+    # (a rise that peaks 10 dB below the usual tap counts as such a swell too)
+    strong_set = {int(k) for k in idx}
+    if len(kept) >= 3:
+        usual = float(np.median(np.diff(kept)))
+        peak = {k: float(e[k:k + 20].max()) for k in kept}
+        typical_peak = float(np.median(list(peak.values())))
+        kept = [k for i, k in enumerate(kept)
+                if i == 0 or k - kept[i - 1] >= 0.5 * usual
+                or (k in strong_set and peak[k] >= 0.1 * typical_peak)]
     onsets = []
     for k in kept:
         # the first frame at a quarter of the burst's top, then the first sample clear of noise
