@@ -5,7 +5,7 @@ from __future__ import annotations
 import sys
 from collections.abc import Callable
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import click
 
@@ -74,7 +74,7 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--output", "-o", type=PATH, help="Also write the modes as a build fragment (TOML).")
 @force_option
 @click.option("--include-candidates", is_flag=True,
-              help="Write peaks below the confidence floor into the modes file too.")
+              help="Also write weak or flagged peaks (confidence below the floor) as modes.")
 @click.option("--quiet", "-q", is_flag=True, help="No progress bar.")
 def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str | None, fmt: str,
                   output: Path | None, quiet: bool, include_candidates: bool, **opts) -> None:
@@ -102,7 +102,8 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
     band = dict(min_frequency_hz=opts["min_frequency"], max_frequency_hz=opts["max_frequency"])
     run: Callable[[Callable[[int, int], None]], ModesResult]
     if kind == "tap":
-        tap_settings = TapSettings(resolution_hz=opts["resolution"], **band)
+        tap_settings = TapSettings(resolution_hz=opts["resolution"],
+                                   include_candidates=include_candidates, **band)
 
         def run(tick: Callable[[int, int], None]) -> ModesResult:
             return analyse_tap(rec, tap_settings, progress=tick)
@@ -163,6 +164,7 @@ FIELD_FLAGS = {
     "time_scale_s": "--time-unit",
     "rpm_scale_hz": "--rpm-unit",
     "throttle_unit": "--throttle-unit",
+    "include_candidates": "--include-candidates",
 }
 
 #: The commands this module adds to the group.

@@ -18,7 +18,7 @@ import math
 from typing import Any
 
 from ..identify.decay import AmplitudeDamping
-from ..identify.result import ModesResult
+from ..identify.result import CONFIDENCE_FLOOR, MeasuredMode, ModesResult
 from .common import CAUTIONS, JSON_SCHEMA_VERSION
 
 __all__ = ["to_json_dict", "render_json", "render_table", "render_toml", "CAUTIONS", "amplitude_fields",
@@ -128,7 +128,7 @@ def to_json_dict(result: ModesResult) -> dict[str, Any]:
     >>> sorted(to_json_dict(r))
     ['candidates', 'cautions', 'dwell', 'kind', 'method', 'modes', 'orders', 'recording', 'resolution_hz', 'sample_rate_hz', 'schema_version', 'warnings']
     """
-    def mode_dict(m: Any) -> dict[str, Any]:
+    def mode_dict(m: MeasuredMode) -> dict[str, Any]:
         return {
             "name": m.name,
             "frequency_hz": _r(m.frequency_hz, 3),
