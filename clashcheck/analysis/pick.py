@@ -423,7 +423,8 @@ def search_space(
         notes.append("pinned: " + ", ".join(pins))
     if cells and cell_mass_kg is None:
         notes.append("the all-up mass is held when the cell count changes (no --cell-mass given)")
-    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, tuple(hover_range), cell_mass_kg, tuple(notes))
+    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, (hover_range[0], hover_range[1]), cell_mass_kg,
+                       tuple(notes))
 
 
 # ---------------------------------------------------------------------------

@@ -95,15 +95,15 @@ def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str |
     if (kv_from is None) != (kv_to is None):
         raise InputError("pick --kv-to" if kv_to is None else "pick --kv-from", "both --kv-from and --kv-to",
                          "only one")
+    prop_ids: str | list[str] | None = props
     if props is not None and props != "catalog":
-        props_text = props
-        props = [p.strip() for p in props.split(",") if p.strip()]
-        if not props:  # ',' is no list, and never means "all catalog props"
+        prop_ids = [p.strip() for p in props.split(",") if p.strip()]
+        if not prop_ids:  # ',' is no list, and never means "all catalog props"
             raise InputError("--props", "'catalog' or catalog propeller ids separated by commas",
-                             props_text)
+                             props)
     build = load_build(build_file)
-    space = search_space(build, props=props, hover_range=(hover_low, hover_high),
-                         kv_range=None if kv_from is None else (kv_from, kv_to, kv_step),
+    space = search_space(build, props=prop_ids, hover_range=(hover_low, hover_high),
+                         kv_range=None if kv_from is None or kv_to is None else (kv_from, kv_to, kv_step),
                          max_motor_mass_kg=options.pop("max_motor_mass"),
                          max_prop_diameter_m=options.pop("max_prop_diameter"),
                          cell_mass_kg=options.pop("cell_mass"),

@@ -263,6 +263,7 @@ class Conditioner:
         name = self.rec.path
         if self._rows_used == 0:
             raise RecordingError(name, "", "no usable rows: every row has a missing value")
+        assert self._dt is not None  # set with the sample rate
         if self._dt_n > 1:
             mean = self._dt_sum / self._dt_n
             var = max(self._dt_sq / self._dt_n - mean**2, 0.0)
@@ -310,9 +311,9 @@ class Conditioner:
                 "no spectrum spans a gap"
             )
         n = max(self._rows_used, 1)
-        mean = self._sum / n
-        std = np.sqrt(np.maximum(self._sq / n - mean**2, 0.0))
-        f.dc_offset = tuple(float(m) for m in mean)
+        means = self._sum / n
+        std = np.sqrt(np.maximum(self._sq / n - means**2, 0.0))
+        f.dc_offset = tuple(float(m) for m in means)
         f.std = tuple(float(s) for s in std)
         clipped = []
         for k in range(self._nch):
@@ -330,9 +331,9 @@ class Conditioner:
                     f"signal {chan}: {100 * frac:.3g} % of the samples are clipped; peaks and "
                     "damping near strong modes may be distorted"
                 )
-            if std[k] > 0 and abs(mean[k]) > std[k]:
+            if std[k] > 0 and abs(means[k]) > std[k]:
                 f.warnings.append(
-                    f"signal {chan}: DC offset {mean[k]:.4g} is {abs(mean[k]) / std[k]:.2g} times "
+                    f"signal {chan}: DC offset {means[k]:.4g} is {abs(means[k]) / std[k]:.2g} times "
                     "its variation; it is removed from each segment before the spectra"
                 )
             if std[k] == 0:
@@ -507,8 +508,9 @@ class Conditioner:
         start = self._grid_next
         if t[-1] < start:
             return
+        assert self._dt is not None
         values = parts[max(a, 0):b].stacked()
-        if a < 0:  # the carried sample leads this piece
+        if a < 0 and self._carry is not None:  # the carried sample leads this piece
             values = np.vstack([self._carry[1].stacked(), values])
         count = int(math.floor((t[-1] - start) / self._dt + 1e-9)) + 1
         grid = start + self._dt * np.arange(count)
@@ -746,7 +748,7 @@ def _fill_isolated(block: Block, parts: _Parts,
 def _usable(a: np.ndarray) -> np.ndarray:
     """True where a value is a number within ±:data:`MAX_ABS_VALUE` (NaN compares false)."""
     with np.errstate(invalid="ignore"):
-        return np.abs(a) < MAX_ABS_VALUE
+        return np.asarray(np.abs(a) < MAX_ABS_VALUE)
 
 
 def _bad_rows(block: Block) -> np.ndarray | None:
@@ -755,7 +757,7 @@ def _bad_rows(block: Block) -> np.ndarray | None:
               if a is not None]
     if all(bool(_usable(a).all()) for a in arrays):  # the common case: whole-array checks
         return None
-    bad = ~_usable(block.signals).all(axis=1)
+    bad = np.asarray(~_usable(block.signals).all(axis=1))
     for a in arrays[1:]:
         bad |= ~_usable(a)
     return bad

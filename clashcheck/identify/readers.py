@@ -415,7 +415,8 @@ def _layout(path: str, names: Sequence[str], columns: Columns, default_signals: 
     return tcol, sig, thr, rpm, [names[i] for i in sig]
 
 
-def _split(arr: np.ndarray, first_row: int, tcol, sig, thr, rpm, columns: Columns) -> Block:
+def _split(arr: np.ndarray, first_row: int, tcol: int | None, sig: list[int], thr: int | None,
+           rpm: list[int], columns: Columns) -> Block:
     """Turn a (rows, used columns) array into a Block; columns in ``order``."""
     with np.errstate(all="ignore"):  # values out of range become missing, checked later
         time_s = None if tcol is None else arr[:, tcol] * columns.time_scale_s
@@ -492,7 +493,7 @@ def _csv_blocks_pandas(pd, path, delim, names, used, ncols, block_rows, remap,
                         raise RecordingError(path, f"row {row}", "malformed row (a field beyond the "
                                              "header's columns)")
                 arr = chunk.iloc[:, used].to_numpy(dtype=np.float64, copy=False)
-                yield _split(arr, first, *remap, columns)
+                yield _split(arr, first, remap[0], remap[1], remap[2], remap[3], columns)
                 first += arr.shape[0]
     except pd.errors.ParserError as exc:
         match = _PANDAS_LINE.search(str(exc))
@@ -541,7 +542,7 @@ def _csv_blocks_numpy(path, delim, used, ncols, block_rows, remap, columns) -> I
             if not lines:
                 return
             arr = _loadtxt_block(path, lines, delim, used, ncols, first)
-            yield _split(arr, first, *remap, columns)
+            yield _split(arr, first, remap[0], remap[1], remap[2], remap[3], columns)
             first += len(lines)
 
 

@@ -130,7 +130,8 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
         value = f.ratio(raw, key, where, low=0.0, high=1.0, what="a damping ratio")
         if value is not None:
             details[key] = value
-    low, high = details.get("damping_low"), details.get("damping_high")
+    low = f.ratio(raw, "damping_low", where, low=0.0, high=1.0, what="a damping ratio")
+    high = f.ratio(raw, "damping_high", where, low=0.0, high=1.0, what="a damping ratio")
     if low is not None and high is not None and low > high:
         raise InputError(f"{where}.damping_high", f"a damping ratio not below damping_low ({low:g})",
                          raw["damping_high"])

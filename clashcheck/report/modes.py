@@ -18,7 +18,7 @@ import math
 from typing import Any
 
 from ..identify.decay import AmplitudeDamping
-from ..identify.result import CONFIDENCE_FLOOR, MeasuredMode, ModesResult
+from ..identify.result import MeasuredMode, ModesResult
 from .common import CAUTIONS, JSON_SCHEMA_VERSION
 
 __all__ = ["to_json_dict", "render_json", "render_table", "render_toml", "CAUTIONS", "amplitude_fields",
