@@ -80,7 +80,7 @@ class InputError(ClashcheckError, ValueError):
         text = f"{_printable(str(self.field), 160)}: expected {self.expected}, got {got}"
         if self.hint:
             text += f" ({self.hint})"
-        return _printable(text, 2 * MAX_MESSAGE)
+        return _printable(text, MAX_MESSAGE + 60)
 
     def __reduce__(self):  # keep pickling (multiprocessing, hypothesis) working
         return (type(self), (self.field, self.expected, self.got, self.hint))

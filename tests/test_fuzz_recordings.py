@@ -451,7 +451,7 @@ def make_case(rng: random.Random) -> Case:
         mutate = rng.choice(pool)
         try:
             data = mutate(data, rng)
-        except (IndexError, ValueError):  # a structure mutation that does not fit this data
+        except (IndexError, ValueError, OverflowError):  # a mutation that does not fit this data
             continue
         names.append(mutate.__name__)
     options = list(ARGS.get(kind, []))

@@ -75,6 +75,7 @@ __all__ = [
     "rank",
     "pick",
     "MAX_CANDIDATES",
+    "MAX_PICK_WORK",
 ]
 
 #: What a user may pin.
@@ -86,6 +87,8 @@ _BLOCK = 2048
 #: Most candidates in one search (the product of all axes): checked before any
 #: axis is built or scored (about 30 s and 300 MB at this size; see the README).
 MAX_CANDIDATES = 200_000
+#: Most candidates × modes in one search: the scoring work grows with both.
+MAX_PICK_WORK = 2_000_000
 #: Default propeller search: catalog props from this share of the build's diameter up to it.
 _PROP_DIAMETER_SHARE = 0.8
 #: Default motor search: catalog motors from half to twice the build motor's mass.
@@ -966,7 +969,13 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
     """
     if isinstance(top, bool) or not isinstance(top, int) or not 1 <= top <= 100:
         raise InputError("pick --top", "a whole number from 1 to 100", top)
-    scores = score_candidates(build, space)
+    work = space.size * max(len(build.modes), 1)
+    if work > MAX_PICK_WORK:  # before any scoring array is allocated
+        raise InputError("pick", f"at most {MAX_PICK_WORK} candidate-modes (candidates × the "
+                         f"build's {len(build.modes)} modes)", f"{space.size} candidates",
+                         "narrow the search or keep the modes in the analysed band")
+    # the scoring arrays grow with block × modes: fewer candidates per block for many modes
+    scores = score_candidates(build, space, block=max(32, min(_BLOCK, 8 * _BLOCK // max(len(build.modes), 1))))
     order = rank(scores)
     picks = []
     notes = list(space.notes)

@@ -45,7 +45,7 @@ MAX_SEGMENT_S = 8.0
 #: Energy rise (ratio) that marks an impact.
 ONSET_RATIO = 30.0
 #: Longest tap recording read [rows]; tap tests are short.
-MAX_TAP_ROWS = 1 << 24
+MAX_TAP_ROWS = 1 << 22
 #: A peak's prominence must exceed this many standard deviations of the
 #: averaged noise at its bin.
 SIGNIFICANCE = 5.0
