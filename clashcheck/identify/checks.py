@@ -397,6 +397,8 @@ class Conditioner:
             if d0 <= 0:  # rounding repeats most times: the span gives the interval
                 d0 = float(t[-1] - t[0]) / (t.size - 1)
             ok0 = (d >= 0) & (d <= GAP_FACTOR * d0 + q0)
+            if not ok0.any():  # no steady interval (times out of order): judge the rest later
+                ok0 = d > 0
             steady = d[ok0]
             self._dt = float(steady.mean())  # the mean interval: unbiased under jitter
             first = int(np.argmin(ok0)) if not ok0.all() else d.size
