@@ -319,6 +319,8 @@ def _sniff_csv(path: str) -> tuple[list[str], str, int, int]:
             raise RecordingError(path, f"byte {exc.start}", "not UTF-8 text") from None
         text = head[: exc.start].decode("utf-8")
     lines = text.splitlines()
+    if not lines:
+        raise RecordingError(path, "row 1", "no text header row was found")
     header = lines[0].lstrip("\ufeff")
     if not header.strip():
         raise RecordingError(path, "row 1", "the first row is empty; a header row was expected")
