@@ -55,7 +55,7 @@ class Band:
 
 
 def _time_hint(sample_rate_hz: float) -> str:
-    if sample_rate_hz < MIN_SAMPLE_RATE_HZ * 10:
+    if sample_rate_hz < 100.0:  # no frame mode shows below that: likely times in ms or µs
         return ("the times may be in ms or µs: state their unit (time_scale_s, "
                 "on the command line --time-unit)")
     return ""
@@ -107,11 +107,11 @@ def check_band(sample_rate_hz: float, min_frequency_hz: float,
     lo = float(min_frequency_hz)
     if not (math.isfinite(lo) and 0 < lo < top):
         raise InputError("min_frequency_hz", f"a frequency below {top:g} Hz (the usable band at "
-                         f"{fs:g} Hz sampling)", min_frequency_hz)
+                         f"{fs:g} Hz sampling)", min_frequency_hz, _time_hint(fs))
     hi = top if max_frequency_hz is None else float(max_frequency_hz)
     if not (math.isfinite(hi) and lo < hi <= top):
         raise InputError("max_frequency_hz", f"a frequency from {lo:g} Hz to {top:g} Hz (the usable "
-                         f"band at {fs:g} Hz sampling)", max_frequency_hz)
+                         f"band at {fs:g} Hz sampling)", max_frequency_hz, _time_hint(fs))
     if resolution_hz is not None:
         res = float(resolution_hz)
         finest = fs / MAX_SEGMENT_SAMPLES
