@@ -57,6 +57,7 @@ from .damping import (
 from .flight_fit import LEVEL, fit_band
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
+from .band import check_band
 from .result import Dwell, MeasuredMode, ModesResult, OrderStrength
 from .spectra import SegmentStream, hann_periodic, segment_length
 
@@ -593,6 +594,7 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
             res = (MIN_SEGMENTS + 1) / 2 / max(est_s, 1e-9) * 1.05
             warnings.append(f"the recording is short for {settings.resolution_hz:g} Hz "
                             f"resolution; analysed at {res:.3g} Hz")
+        check_band(fs, settings.min_frequency_hz, fmax, res)
         nper = segment_length(fs, res)
         stream = SegmentStream(fs, nper, nper // 2, nfft=2 * nper)
         mask = (stream.freq_hz >= settings.min_frequency_hz) & (stream.freq_hz <= fmax)

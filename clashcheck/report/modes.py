@@ -18,7 +18,7 @@ import math
 from typing import Any
 
 from ..identify.decay import AmplitudeDamping
-from ..identify.result import ModesResult
+from ..identify.result import MeasuredMode, ModesResult
 from .common import CAUTIONS, JSON_SCHEMA_VERSION
 
 __all__ = ["to_json_dict", "render_json", "render_table", "render_toml", "CAUTIONS", "amplitude_fields",
@@ -128,7 +128,7 @@ def to_json_dict(result: ModesResult) -> dict[str, Any]:
     >>> sorted(to_json_dict(r))
     ['candidates', 'cautions', 'dwell', 'kind', 'method', 'modes', 'orders', 'recording', 'resolution_hz', 'sample_rate_hz', 'schema_version', 'warnings']
     """
-    def mode_dict(m: Any) -> dict[str, Any]:
+    def mode_dict(m: MeasuredMode) -> dict[str, Any]:
         return {
             "name": m.name,
             "frequency_hz": _r(m.frequency_hz, 3),
@@ -355,6 +355,11 @@ def render_toml(result: ModesResult, today: _dt.date | None = None,
         if m.damping is None:
             lines.append(_comment(f"{m.name}: damping only known to be below "
                                   f"{m.damping_high:.4f}; check uses its default_damping"))
+    if any(getattr(m, "amplitude_damping", None) is not None for m in modes):
+        lines.append(_comment("damping against amplitude; amplitudes and the drop per cycle are in "
+                              "the recording's units. Set operating_amplitude_rec to the amplitude "
+                              "the frame sees in flight and check uses the damping there; without "
+                              "it, check uses the lowest damping over the measured range."))
     if not modes:
         lines.append(_comment("no modes were found in this recording"))
     doc: dict[str, Any] = {}
