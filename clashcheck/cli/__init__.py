@@ -66,9 +66,9 @@ def main() -> None:
 
 def _register() -> None:
     """Add each command module's commands and flag names to the group (one line per module)."""
-    from . import arm, check, decide, modes
+    from . import arm, check, decide, fleet, modes
 
-    for module in (check, arm, decide, modes):
+    for module in (check, arm, decide, modes, fleet):
         for command in module.COMMANDS:
             main.add_command(command)
         FIELD_FLAGS.update(getattr(module, "FIELD_FLAGS", {}))
