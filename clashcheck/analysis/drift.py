@@ -397,18 +397,18 @@ def drift(
         lim = Limit(feat, math.exp(centre), math.expm1(half), sd, len(vals), t, rate)
         limits[ti].append(lim)
         # walk back from the latest while the value stays outside on the same side
-        run, side = 0, 0
-        for row in reversed(later_matched):
-            v = _value(row[ti], feat)
+        # (a recording where the mode was not found neither ends nor extends the run)
+        run, side, first = 0, 0, len(later) - 1
+        for j in range(len(later) - 1, -1, -1):
+            v = _value(later_matched[j][ti], feat)
             if v is None:
-                break
+                continue
             dev = math.log(v) - centre
             s = 1 if dev > half else (-1 if dev < -half else 0)
             if s == 0 or (side and s != side):
                 break
-            side, run = s, run + 1
+            side, run, first = s, run + 1, j
         if run:
-            first = len(later) - run
             latest_v = _value(latest[ti], feat)
             assert latest_v is not None
             findings.append(Finding(
