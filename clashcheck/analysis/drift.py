@@ -49,6 +49,7 @@ import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import lru_cache
+from typing import Any
 
 import numpy as np
 
@@ -239,7 +240,7 @@ def _t_quantile(p: float, dof: int) -> float:
     return float(stats.t.ppf(p, dof))
 
 
-def student_limit(values: Sequence[float], test_rate: float) -> tuple[float, float, float]:
+def student_limit(values: Sequence[float] | np.ndarray, test_rate: float) -> tuple[float, float, float]:
     """Centre and half-width of a two-sided Student-t prediction limit for one new value.
 
     Parameters
@@ -369,7 +370,7 @@ def drift(
         obs = [o for o in obs if o.date >= event[0]]
     k = settings.baseline_count
     base, later = obs[:k], obs[k:]
-    common = dict(baseline_recordings=tuple(o.recording for o in base),
+    common: dict[str, Any] = dict(baseline_recordings=tuple(o.recording for o in base),
                   baseline_start=base[0].date if base else None, baseline_event=event,
                   monitored_recordings=tuple(o.recording for o in later),
                   false_alarm_rate=settings.false_alarm_rate, baseline_count=k)

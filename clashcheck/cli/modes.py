@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
+from typing import Any
 
 import click
 
@@ -66,7 +67,7 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
         build = load_build(build_file)
     plan = recording_plan(kind, build=build, axes=axes, **opts)
     rec = open_recording(recording, plan.columns)
-    analyse = analyse_tap if kind == "tap" else analyse_flight
+    analyse: Any = analyse_tap if kind == "tap" else analyse_flight
     settings = plan.settings
     with _modes_progress(quiet, rec.rows_estimate, len(rec.signal_names)) as bar:
         last = [0]

@@ -81,7 +81,7 @@ def analyse_task(task: Task) -> AnalysisRecord:
     from ..identify import analyse_flight, analyse_tap, open_recording
 
     start = time.perf_counter()
-    common = dict(content_sha256=task.content_sha256, settings_key=task.settings_key, path=task.path,
+    common: dict[str, Any] = dict(content_sha256=task.content_sha256, settings_key=task.settings_key, path=task.path,
                   kind=task.kind)
     try:
         rec = open_recording(task.path, task.columns)

@@ -137,7 +137,7 @@ def recording_plan(
     columns = Columns(signals=_split(signal), time_column=time_column, time_scale_s=time_scale,
                       sample_rate_hz=rate, throttle_column=throttle_column,
                       rpm_columns=_split(rpm_columns) or (), rpm_scale_hz=rpm_scale)
-    band = dict(min_frequency_hz=20.0 if min_frequency is None else min_frequency,
+    band: dict[str, Any] = dict(min_frequency_hz=20.0 if min_frequency is None else min_frequency,
                 max_frequency_hz=max_frequency)
     if kind == "tap":
         from .tap import TapSettings

@@ -177,7 +177,7 @@ def _aircraft(raw: dict[str, Any], where: str, base: Path) -> AircraftEntry:
         build = load_build(build_path)
     except InputError as exc:
         raise InputError(f"{where}.build: {exc.field}", exc.expected, exc.got, exc.hint) from None
-    recordings = []
+    recordings: list[RecordingEntry] = []
     raws = f.tables(raw, "recordings", where)
     if not raws:
         raise InputError(f"{where}.recordings", "at least one [[aircraft.recordings]] entry", [])
@@ -188,7 +188,7 @@ def _aircraft(raw: dict[str, Any], where: str, base: Path) -> AircraftEntry:
                              f"a date on or after the previous recording's ({recordings[-1].date:%Y-%m-%d})",
                              entry.date.strftime("%Y-%m-%d %H:%M"), "list recordings oldest first")
         recordings.append(entry)
-    events = []
+    events: list[Event] = []
     for i, ev in enumerate(f.tables(raw, "events", where)):
         ewhere = f"{where}.events[{i}]"
         f.check_keys(ev, _EVENT_KEYS, ewhere)
