@@ -109,7 +109,7 @@ def child(manifest: str, mode: str, store: str) -> None:
         plan = plan_fleet(fleet, st)
         kw: dict = {"serial": {}, "jobs2": {"jobs": 2}, "cluster2": {"jobs": 2, "scheduler": "local"}}[mode]
         t0 = time.perf_counter()
-        run = analyse_fleet(plan, st, progress=tally, **kw)
+        run = analyse_fleet(plan, st, on_record=tally, **kw)
         wall = time.perf_counter() - t0
     workers = 1 if mode == "serial" else 2
     # steady state: from the first record's arrival to the last (worker start-up excluded)

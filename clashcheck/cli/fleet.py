@@ -5,6 +5,7 @@ from __future__ import annotations
 import os
 import sys
 from pathlib import Path
+from typing import Any
 
 import click
 
@@ -43,23 +44,40 @@ def fleet_command(manifest: Path, store_path: Path | None, jobs: int, scheduler:
         jobs = os.cpu_count() or 2
     with Store(store_file, inputs) as store:
         plan = plan_fleet(fleet, store)
-        show = not quiet and len(plan.new) > 0
-        with click.progressbar(length=len(plan.new), label="analysing recordings", file=sys.stderr,
-                               show_pos=True) if show else _nothing() as bar:
-            def tick(record) -> None:
-                if bar is not None:
-                    bar.update(1)
-
-            run = analyse_fleet(plan, store, jobs=jobs, scheduler=scheduler or None, progress=tick)
+        bars = _Bars(enabled=not quiet)
+        try:
+            run = analyse_fleet(plan, store, jobs=jobs, scheduler=scheduler or None, progress=bars.update)
+        finally:
+            bars.close()
         result = assess_fleet(fleet, store, plan, run)
     click.echo(render_json(result) if fmt == "json" else render_table(result), nl=False)
     sys.exit(EXIT_FAIL if any(a.flagged for a in result.aircraft) else EXIT_OK)
 
 
-def _nothing():
-    import contextlib
+class _Bars:
+    """One click progress bar on stderr per stage (hashing, analysing), made when the stage starts."""
 
-    return contextlib.nullcontext(None)
+    def __init__(self, enabled: bool) -> None:
+        self.enabled = enabled
+        self.stage: str | None = None
+        self.bar: Any = None
+
+    def update(self, stage: str, done: int, total: int) -> None:
+        if not self.enabled:
+            return
+        if stage != self.stage:
+            self.close()
+            self.stage = stage
+            self.bar = click.progressbar(length=total, label=f"{stage} recordings", file=sys.stderr,
+                                         show_pos=True)
+            self.bar.__enter__()
+        if self.bar is not None:
+            self.bar.update(1)
+
+    def close(self) -> None:
+        if self.bar is not None:
+            self.bar.__exit__(None, None, None)
+            self.bar = None
 
 
 #: Library fields and the flag that sets each.

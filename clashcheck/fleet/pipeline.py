@@ -14,6 +14,7 @@ import datetime as _dt
 import hashlib
 import json
 from collections.abc import Callable, Sequence
+from typing import Any
 from dataclasses import dataclass, field
 
 from ..analysis.clash import VERDICTS, check_build
@@ -23,14 +24,16 @@ from ..inputs.manifest import AircraftEntry, Manifest, RecordingEntry
 from ..model.build import Build, MeasuredModes
 from ..model.modes import Mode
 from .records import AnalysisRecord, ModeRecord
-from .runner import Task, run_tasks
+from .runner import Task
 from .store import Store
 
 __all__ = [
     "ANALYSIS_VERSION",
     "settings_key",
+    "PlannedRecording",
     "FleetPlan",
     "plan_fleet",
+    "Progress",
     "RunSummary",
     "analyse_fleet",
     "VerdictChange",
@@ -65,13 +68,63 @@ def settings_key(entry: RecordingEntry, build_sha256: str | None) -> str:
 
 
 @dataclass(frozen=True)
-class FleetPlan:
-    """Every recording of the fleet as a task, and which are new."""
+class PlannedRecording:
+    """One recording of one aircraft, ready to analyse."""
 
-    #: One task per (aircraft, recording), in manifest order.
-    tasks: tuple[tuple[str, RecordingEntry, Task], ...]
-    #: Tasks whose (content, settings) is not in the store, each once.
-    new: tuple[Task, ...]
+    #: The aircraft's id.
+    aircraft: str
+    #: The manifest's entry.
+    entry: RecordingEntry
+    #: The reader's column plan.
+    columns: Any
+    #: The analysis settings.
+    settings: Any
+    #: The settings key (:func:`settings_key`).
+    settings_key: str
+
+
+@dataclass(frozen=True)
+class FleetPlan:
+    """Every recording of the fleet, with its settings and the file's size and mtime when planned."""
+
+    #: One per (aircraft, recording), in manifest order.
+    recordings: tuple[PlannedRecording, ...]
+    #: (size [bytes], mtime [ns]) of every recording file when planned (the hash cache's key).
+    stats: dict[str, tuple[int, int]] = field(default_factory=dict)
+
+    def content_of(self, path: str, store: Store) -> str | None:
+        """The file's SHA-256 from the store's cache, if it was hashed at this size and mtime.
+
+        Parameters
+        ----------
+        path : str
+            Absolute path of a recording of this plan.
+        store : Store
+            The store.
+
+        Returns
+        -------
+        str or None
+            The hex digest, or ``None`` when not (yet) hashed.
+        """
+        size, mtime = self.stats[path]
+        return store.cached_hash(path, size, mtime)
+
+    def unhashed(self, store: Store) -> list[str]:
+        """Recording files not hashed at their current size and mtime, each once."""
+        return sorted({r.entry.path for r in self.recordings if self.content_of(r.entry.path, store) is None})
+
+    def pending(self, store: Store) -> list[Task]:
+        """Tasks for every hashed recording whose (content, settings) is not in the store, each once."""
+        known = store.known()
+        out: dict[tuple[str, str], Task] = {}
+        for r in self.recordings:
+            digest = self.content_of(r.entry.path, store)
+            if digest is not None and (digest, r.settings_key) not in known:
+                out.setdefault((digest, r.settings_key),
+                               Task(path=r.entry.path, kind=r.entry.kind, columns=r.columns,
+                                    settings=r.settings, content_sha256=digest, settings_key=r.settings_key))
+        return list(out.values())
 
 
 def _where(aircraft: AircraftEntry, i: int) -> str:
@@ -79,26 +132,28 @@ def _where(aircraft: AircraftEntry, i: int) -> str:
 
 
 def plan_fleet(manifest: Manifest, store: Store) -> FleetPlan:
-    """Build every recording's task and find those not yet analysed.
+    """Build every recording's column plan, settings and settings key.
 
     Parameters
     ----------
     manifest : Manifest
         The validated manifest.
     store : Store
-        The store (its hash cache is used and updated).
+        The store (builds are hashed through its cache).
 
     Returns
     -------
     FleetPlan
-        All tasks, and the new ones.
+        Every recording, with the size and mtime of its file.
 
     Raises
     ------
     InputError
-        When a recording's options do not make valid settings, naming the
-        aircraft, the recording and the field.
+        When a recording's options do not make valid settings, or its file
+        cannot be read, naming the aircraft, the recording and the field.
     """
+    import os
+
     from ..identify.options import recording_plan
     from ..inputs.buildfile import load_build
 
@@ -112,9 +167,8 @@ def plan_fleet(manifest: Manifest, store: Store) -> FleetPlan:
                 raise InputError(f"{where}: {exc.field}", exc.expected, exc.got, exc.hint) from None
         return builds[path]
 
-    known = store.known()
     out = []
-    new: dict[tuple[str, str], Task] = {}
+    stats: dict[str, tuple[int, int]] = {}
     for ac in manifest.aircraft:
         builds.setdefault(ac.build_path, (ac.build, store.content_hash(ac.build_path)))
         for i, rec in enumerate(ac.recordings):
@@ -127,22 +181,19 @@ def plan_fleet(manifest: Manifest, store: Store) -> FleetPlan:
                 raise InputError(f"{where}.{exc.field.lstrip('-').replace('-', '_')}", exc.expected,
                                  exc.got, exc.hint) from None
             try:
-                digest = store.content_hash(rec.path)
+                st = os.stat(rec.path)
             except OSError as exc:
                 raise InputError(f"{where}.path", "a readable recording", rec.name,
                                  exc.strerror or str(exc)) from None
-            key = settings_key(rec, build_sha if rec.kind == "flight" else None)
-            task = Task(path=rec.path, kind=rec.kind, columns=plan.columns, settings=plan.settings,
-                        content_sha256=digest, settings_key=key)
-            out.append((ac.id, rec, task))
-            if (digest, key) not in known:
-                new.setdefault((digest, key), task)
-    return FleetPlan(tasks=tuple(out), new=tuple(new.values()))
+            stats[rec.path] = (st.st_size, st.st_mtime_ns)
+            out.append(PlannedRecording(ac.id, rec, plan.columns, plan.settings,
+                                        settings_key(rec, build_sha if rec.kind == "flight" else None)))
+    return FleetPlan(recordings=tuple(out), stats=stats)
 
 
 @dataclass(frozen=True)
 class RunSummary:
-    """What one run analysed."""
+    """What one run did."""
 
     #: Recordings analysed in this run.
     analysed: int
@@ -150,16 +201,26 @@ class RunSummary:
     failed: int
     #: Recordings whose analysis was already in the store.
     reused: int
-    #: Wall time of the analyses [s].
+    #: Wall time of hashing and analyses [s].
     elapsed_s: float
+    #: Files hashed in this run (new or changed since the last).
+    hashed: int = 0
+    #: Files that could not be read to hash them: (path, one-line error).
+    unreadable: tuple[tuple[str, str], ...] = ()
+
+
+#: A progress callback: ``progress(stage, done, total)``, stage "hashing" or "analysing".
+Progress = Callable[[str, int, int], None]
 
 
 def analyse_fleet(plan: FleetPlan, store: Store, *, jobs: int = 1, scheduler: str | None = None,
-                  processes: bool = True, progress: Callable[[AnalysisRecord], None] | None = None,
-                  batch: int = 64) -> RunSummary:
-    """Analyse the plan's new recordings and keep every result in the store.
+                  processes: bool = True, progress: Progress | None = None,
+                  on_record: Callable[[AnalysisRecord], None] | None = None, batch: int = 64) -> RunSummary:
+    """Hash new files and analyse the recordings not yet in the store, on the workers.
 
-    Records are committed in batches (each batch one transaction), so an
+    First every file not hashed before (at its size and mtime) is hashed on the
+    workers; then each (content, settings) pair not in the store is analysed
+    once.  Results are committed in batches (each batch one transaction), so an
     interrupted run keeps every batch it finished.
 
     Parameters
@@ -175,7 +236,9 @@ def analyse_fleet(plan: FleetPlan, store: Store, *, jobs: int = 1, scheduler: st
     processes : bool
         Local cluster workers as processes (``False``: threads; for tests).
     progress : callable, optional
-        Called with each record as it arrives.
+        ``progress(stage, done, total)`` after each file hashed or analysed.
+    on_record : callable, optional
+        Called with each analysis record as it arrives.
     batch : int
         Records per store transaction.
 
@@ -186,22 +249,38 @@ def analyse_fleet(plan: FleetPlan, store: Store, *, jobs: int = 1, scheduler: st
     """
     import time
 
+    from .runner import Workers, analyse_task, hash_file
+
     start = time.perf_counter()
-    pending: list[AnalysisRecord] = []
+    tick = progress or (lambda stage, done, total: None)
+    unreadable: list[tuple[str, str]] = []
     analysed = failed = 0
-    for record in run_tasks(plan.new, jobs=jobs, scheduler=scheduler, processes=processes):
-        pending.append(record)
-        analysed += 1
-        failed += not record.ok
-        if progress is not None:
-            progress(record)
-        if len(pending) >= batch:
-            store.put(pending)
-            pending = []
-    store.put(pending)
-    unique = {(t.content_sha256, t.settings_key) for _, _, t in plan.tasks}
-    return RunSummary(analysed=analysed, failed=failed, reused=len(unique) - analysed,
-                      elapsed_s=time.perf_counter() - start)
+    with Workers(jobs, scheduler, processes) as workers:
+        todo = plan.unhashed(store)
+        hashes: list[tuple[str, int, int, str]] = []
+        for done, (path, digest, error) in enumerate(workers.map_unordered(hash_file, todo), 1):
+            if digest is None:
+                unreadable.append((path, error or "unreadable"))
+            else:
+                hashes.append((path, *plan.stats[path], digest))
+            tick("hashing", done, len(todo))
+        store.put([], hashes)
+        tasks = plan.pending(store)
+        pending: list[AnalysisRecord] = []
+        for record in workers.map_unordered(analyse_task, tasks):
+            pending.append(record)
+            analysed += 1
+            failed += not record.ok
+            if on_record is not None:
+                on_record(record)
+            tick("analysing", analysed, len(tasks))
+            if len(pending) >= batch:
+                store.put(pending)
+                pending = []
+        store.put(pending)
+    unique = {(plan.content_of(r.entry.path, store), r.settings_key) for r in plan.recordings}
+    return RunSummary(analysed=analysed, failed=failed, reused=max(0, len(unique) - analysed),
+                      elapsed_s=time.perf_counter() - start, hashed=len(todo), unreadable=tuple(unreadable))
 
 
 @dataclass(frozen=True)
@@ -325,18 +404,22 @@ def assess_fleet(manifest: Manifest, store: Store, plan: FleetPlan, run: RunSumm
         One :class:`AircraftResult` per aircraft.
     """
     settings = settings or DriftSettings()
-    by_aircraft: dict[str, list[tuple[RecordingEntry, Task]]] = {}
-    for ac_id, rec, task in plan.tasks:
-        by_aircraft.setdefault(ac_id, []).append((rec, task))
+    by_aircraft: dict[str, list[PlannedRecording]] = {}
+    for pr in plan.recordings:
+        by_aircraft.setdefault(pr.aircraft, []).append(pr)
+    unreadable = dict(run.unreadable)
     out = []
     for ac in manifest.aircraft:
         obs: list[Observation] = []
         records: list[tuple[RecordingEntry, AnalysisRecord]] = []
         errors = []
-        for rec, task in by_aircraft.get(ac.id, []):
-            r = store.get(task.content_sha256, task.settings_key)
+        for pr in by_aircraft.get(ac.id, []):
+            rec = pr.entry
+            digest = plan.content_of(rec.path, store)
+            r = store.get(digest, pr.settings_key) if digest is not None else None
             if r is None or not r.ok:
-                errors.append((rec.name, (r.error or "failed") if r is not None else "not analysed"))
+                why = r.error if r is not None else unreadable.get(rec.path, "not analysed")
+                errors.append((rec.name, why or "failed"))
                 continue
             records.append((rec, r))
             obs.append(Observation(rec.name, rec.date, tuple(_features(m) for m in r.modes)))

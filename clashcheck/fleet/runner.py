@@ -22,7 +22,7 @@ from typing import Any
 from ..errors import ClashcheckError, InputError
 from .records import AnalysisRecord, ModeRecord
 
-__all__ = ["Task", "analyse_task", "run_tasks", "DASK_MISSING", "IN_FLIGHT_PER_WORKER"]
+__all__ = ["Task", "analyse_task", "hash_file", "Workers", "run_tasks", "DASK_MISSING", "IN_FLIGHT_PER_WORKER"]
 
 #: Tasks kept in flight per worker (bounds memory and the scheduler's queue).
 IN_FLIGHT_PER_WORKER = 4
@@ -82,7 +82,7 @@ def analyse_task(task: Task) -> AnalysisRecord:
 
     start = time.perf_counter()
     common: dict[str, Any] = dict(content_sha256=task.content_sha256, settings_key=task.settings_key, path=task.path,
-                  kind=task.kind)
+                                  kind=task.kind)
     try:
         rec = open_recording(task.path, task.columns)
         result = (analyse_tap if task.kind == "tap" else analyse_flight)(rec, task.settings)
@@ -104,11 +104,32 @@ def _single_process_worker() -> None:
     os.environ.setdefault("CLASHCHECK_WORKER", "off")
 
 
-def _bounded(submit: Callable[[Task], Any], wait_one: Callable[[set], tuple[set, set]],
-             tasks: Iterable[Task], limit: int) -> Iterator[Any]:
+def hash_file(path: str) -> tuple[str, str | None, str | None]:
+    """SHA-256 of one recording, run on a worker (it reads in parallel with the others).
+
+    Parameters
+    ----------
+    path : str
+        Absolute path.
+
+    Returns
+    -------
+    tuple
+        ``(path, hex digest or None, one-line error or None)``.
+    """
+    from .store import file_sha256
+
+    try:
+        return path, file_sha256(path), None
+    except OSError as exc:
+        return path, None, f"{path}: {exc.strerror or _one_line(exc)}"
+
+
+def _bounded(submit: Callable[[Any], Any], wait_one: Callable[[set], tuple[set, set]],
+             items: Iterable[Any], limit: int) -> Iterator[Any]:
     """Keep at most ``limit`` futures in flight; yield each finished future."""
     pending: set = set()
-    it = iter(tasks)
+    it = iter(items)
     exhausted = False
     while True:
         while not exhausted and len(pending) < limit:
@@ -122,18 +143,6 @@ def _bounded(submit: Callable[[Task], Any], wait_one: Callable[[set], tuple[set,
         yield from done
 
 
-def _run_processes(tasks: Iterable[Task], jobs: int) -> Iterator[AnalysisRecord]:
-    import multiprocessing
-    from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
-
-    ctx = multiprocessing.get_context("spawn")  # no fork of a process that may hold threads
-    with ProcessPoolExecutor(max_workers=jobs, mp_context=ctx, initializer=_single_process_worker) as pool:
-        for fut in _bounded(lambda t: pool.submit(analyse_task, t),
-                            lambda p: wait(p, return_when=FIRST_COMPLETED), tasks,
-                            IN_FLIGHT_PER_WORKER * jobs):
-            yield fut.result()
-
-
 def _dask():
     try:
         import dask.distributed as dd
@@ -142,49 +151,11 @@ def _dask():
     return dd
 
 
-def _run_dask(tasks: Iterable[Task], scheduler: str, jobs: int, processes: bool) -> Iterator[AnalysisRecord]:
-    dd = _dask()
-    cluster = None
-    try:
-        if scheduler == "local":
-            cluster = dd.LocalCluster(n_workers=jobs, threads_per_worker=1, processes=processes,
-                                      dashboard_address=None)
-            client = dd.Client(cluster)
-        else:
-            try:
-                client = dd.Client(scheduler, timeout="20s")
-            except OSError as exc:
-                raise InputError("scheduler", "the address of a running Dask scheduler", scheduler,
-                                 _one_line(exc)) from None
-        with client:
-            workers = max(1, len(client.scheduler_info().get("workers", {})) or jobs)
-            ac = dd.as_completed()
-
-            def submit(task: Task) -> Any:
-                fut = client.submit(analyse_task, task, pure=False)
-                ac.add(fut)
-                return fut
-
-            def wait_one(pending: set) -> tuple[set, set]:
-                fut = next(ac)
-                pending.discard(fut)
-                return {fut}, pending
-
-            for fut in _bounded(submit, wait_one, tasks, IN_FLIGHT_PER_WORKER * workers):
-                yield fut.result()
-    finally:
-        if cluster is not None:
-            cluster.close()
-
-
-def run_tasks(tasks: Iterable[Task], *, jobs: int = 1, scheduler: str | None = None,
-              processes: bool = True) -> Iterator[AnalysisRecord]:
-    """Analyse every task; yield records as they finish (not in task order).
+class Workers:
+    """Where tasks run: this process, local processes, or a Dask cluster (a context manager).
 
     Parameters
     ----------
-    tasks : iterable of Task
-        The recordings to analyse.
     jobs : int
         Local worker processes (1 = in this process); with ``scheduler="local"``,
         the number of workers of the local cluster.
@@ -195,22 +166,122 @@ def run_tasks(tasks: Iterable[Task], *, jobs: int = 1, scheduler: str | None = N
         For ``scheduler="local"``: workers in separate processes (``False``: threads
         of this process, for quick tests).
 
-    Yields
-    ------
-    AnalysisRecord
-        One per task, errors included.
-
     Raises
     ------
     InputError
         ``jobs`` below 1, Dask missing, or the scheduler cannot be reached.
     """
-    if not (isinstance(jobs, int) and jobs >= 1):
-        raise InputError("jobs", "a whole number of at least 1", jobs)
-    if scheduler:
-        yield from _run_dask(tasks, scheduler, jobs, processes)
-    elif jobs == 1:
-        for task in tasks:
-            yield analyse_task(task)
-    else:
-        yield from _run_processes(tasks, jobs)
+
+    def __init__(self, jobs: int = 1, scheduler: str | None = None, processes: bool = True) -> None:
+        if not (isinstance(jobs, int) and jobs >= 1):
+            raise InputError("jobs", "a whole number of at least 1", jobs)
+        self.jobs, self.scheduler, self.processes = jobs, scheduler or None, processes
+        self._pool: Any = None
+        self._client: Any = None
+        self._cluster: Any = None
+        self._dd: Any = None
+        if self.scheduler:
+            self._dd = _dask()  # fail early, before any work, when Dask is missing
+
+    def __enter__(self) -> "Workers":
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    def close(self) -> None:
+        """Stop what this object started (never a cluster it only connected to)."""
+        if self._pool is not None:
+            self._pool.shutdown(cancel_futures=True)
+            self._pool = None
+        if self._client is not None:
+            self._client.close()
+            self._client = None
+        if self._cluster is not None:
+            self._cluster.close()
+            self._cluster = None
+
+    def _start(self) -> None:
+        if self.scheduler is None and self.jobs > 1 and self._pool is None:
+            import multiprocessing
+            from concurrent.futures import ProcessPoolExecutor
+
+            ctx = multiprocessing.get_context("spawn")  # no fork of a process that may hold threads
+            self._pool = ProcessPoolExecutor(max_workers=self.jobs, mp_context=ctx,
+                                             initializer=_single_process_worker)
+        elif self.scheduler is not None and self._client is None:
+            dd = self._dd
+            if self.scheduler == "local":
+                self._cluster = dd.LocalCluster(n_workers=self.jobs, threads_per_worker=1,
+                                                processes=self.processes, dashboard_address=":0")
+                self._client = dd.Client(self._cluster)
+            else:
+                try:
+                    self._client = dd.Client(self.scheduler, timeout="20s")
+                except OSError as exc:
+                    raise InputError("scheduler", "the address of a running Dask scheduler", self.scheduler,
+                                     _one_line(exc)) from None
+
+    def map_unordered(self, fn: Callable[[Any], Any], items: Iterable[Any]) -> Iterator[Any]:
+        """``fn(item)`` for every item, on the workers; results as they finish.
+
+        Parameters
+        ----------
+        fn : callable
+            A module-level function (it is pickled to the workers).
+        items : iterable
+            Its arguments, one per call; small and picklable.
+
+        Yields
+        ------
+        object
+            Each result, in the order they finish.
+        """
+        if self.scheduler is None and self.jobs == 1:
+            yield from map(fn, items)
+            return
+        self._start()
+        if self._pool is not None:
+            from concurrent.futures import FIRST_COMPLETED, wait
+
+            pool = self._pool
+            for fut in _bounded(lambda x: pool.submit(fn, x), lambda p: wait(p, return_when=FIRST_COMPLETED),
+                                items, IN_FLIGHT_PER_WORKER * self.jobs):
+                yield fut.result()
+            return
+        client = self._client
+        workers = max(1, len(client.scheduler_info().get("workers", {})) or self.jobs)
+        ac = self._dd.as_completed()
+
+        def submit(x: Any) -> Any:
+            fut = client.submit(fn, x, pure=False)
+            ac.add(fut)
+            return fut
+
+        def wait_one(pending: set) -> tuple[set, set]:
+            fut = next(ac)
+            pending.discard(fut)
+            return {fut}, pending
+
+        for fut in _bounded(submit, wait_one, items, IN_FLIGHT_PER_WORKER * workers):
+            yield fut.result()
+
+
+def run_tasks(tasks: Iterable[Task], *, jobs: int = 1, scheduler: str | None = None,
+              processes: bool = True) -> Iterator[AnalysisRecord]:
+    """Analyse every task; yield records as they finish (not in task order).
+
+    Parameters
+    ----------
+    tasks : iterable of Task
+        The recordings to analyse.
+    jobs, scheduler, processes
+        Where they run; see :class:`Workers`.
+
+    Yields
+    ------
+    AnalysisRecord
+        One per task, errors included.
+    """
+    with Workers(jobs, scheduler, processes) as workers:
+        yield from workers.map_unordered(analyse_task, tasks)

@@ -154,17 +154,42 @@ class Store:
                              (path, st.st_size, st.st_mtime_ns, digest))
         return digest
 
+    def cached_hash(self, path: str, size: int, mtime_ns: int) -> str | None:
+        """The cached SHA-256 of a file whose size and mtime are as given, or ``None``.
+
+        Parameters
+        ----------
+        path : str
+            Absolute path.
+        size : int
+            Size [bytes] seen now.
+        mtime_ns : int
+            Modification time [ns] seen now.
+
+        Returns
+        -------
+        str or None
+            The hex digest, when cached for this size and mtime.
+        """
+        row = self._db.execute("SELECT size, mtime_ns, sha256 FROM files WHERE path = ?", (path,)).fetchone()
+        if row is not None and row[0] == size and row[1] == mtime_ns:
+            return str(row[2])
+        return None
+
     def known(self) -> set[tuple[str, str]]:
         """Every (content_sha256, settings_key) pair in the store."""
         return {(a, b) for a, b in self._db.execute("SELECT content_sha256, settings_key FROM analyses")}
 
-    def put(self, records: Iterable[AnalysisRecord]) -> int:
-        """Write records in one transaction (all or none).
+    def put(self, records: Iterable[AnalysisRecord],
+            hashes: Iterable[tuple[str, int, int, str]] = ()) -> int:
+        """Write records (and content hashes found by workers) in one transaction (all or none).
 
         Parameters
         ----------
         records : iterable of AnalysisRecord
             Analyses to keep; a record with the same key replaces the old one.
+        hashes : iterable of (str, int, int, str)
+            (path, size [bytes], mtime [ns], sha256) rows for the hash cache.
 
         Returns
         -------
@@ -175,6 +200,7 @@ class Store:
         n = 0
         try:
             with self._db:
+                self._db.executemany("INSERT OR REPLACE INTO files VALUES (?, ?, ?, ?)", list(hashes))
                 for r in records:
                     key = (r.content_sha256, r.settings_key)
                     self._db.execute("DELETE FROM modes WHERE content_sha256 = ? AND settings_key = ?", key)
