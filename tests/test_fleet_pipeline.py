@@ -254,3 +254,20 @@ def test_the_store_is_never_an_input(small_fleet, tmp_path, runner):
     manifest = _small(small_fleet, tmp_path)
     res = runner.invoke(main, ["fleet", str(manifest), "--store", str(manifest), "-q"])
     assert res.exit_code == 2 and "refusing to overwrite an input" in res.stderr
+
+
+def test_a_running_cluster_by_address_gives_the_serial_results(small_fleet, tmp_path, runner, monkeypatch):
+    """DASK_SCHEDULER_ADDRESS names a running scheduler (here on the loopback address)."""
+    dd = pytest.importorskip("dask.distributed")
+    manifest = _small(small_fleet, tmp_path)
+    serial = runner.invoke(main, ["fleet", str(manifest), "--store", str(tmp_path / "a.sqlite"),
+                                  "--format", "json", "-q"])
+    with dd.LocalCluster(n_workers=2, threads_per_worker=1, processes=False, protocol="tcp",
+                         host="127.0.0.1", dashboard_address=":0") as cluster:
+        monkeypatch.setenv("DASK_SCHEDULER_ADDRESS", cluster.scheduler_address)
+        remote = runner.invoke(main, ["fleet", str(manifest), "--store", str(tmp_path / "b.sqlite"),
+                                      "--format", "json", "-q"])
+    assert serial.exit_code == remote.exit_code == 0, remote.output
+    a, b = json.loads(serial.stdout), json.loads(remote.stdout)
+    assert b["run"]["analysed"] == 4
+    assert [x["latest_modes"] for x in a["aircraft"]] == [x["latest_modes"] for x in b["aircraft"]]
