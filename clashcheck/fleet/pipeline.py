@@ -205,7 +205,8 @@ class RunSummary:
     elapsed_s: float
     #: Files hashed in this run (new or changed since the last).
     hashed: int = 0
-    #: Files that could not be read to hash them: (path, one-line error).
+    #: Recordings not analysed, not stored (a re-run tries them again): (path, one-line error) for
+    #: files that could not be read to hash them and tasks whose worker failed.
     unreadable: tuple[tuple[str, str], ...] = ()
 
 
@@ -249,7 +250,7 @@ def analyse_fleet(plan: FleetPlan, store: Store, *, jobs: int = 1, scheduler: st
     """
     import time
 
-    from .runner import Workers, analyse_task, hash_file
+    from .runner import Workers, analyse_task, hash_failed, hash_file, worker_failed
 
     start = time.perf_counter()
     tick = progress or (lambda stage, done, total: None)
@@ -258,7 +259,7 @@ def analyse_fleet(plan: FleetPlan, store: Store, *, jobs: int = 1, scheduler: st
     with Workers(jobs, scheduler, processes) as workers:
         todo = plan.unhashed(store)
         hashes: list[tuple[str, int, int, str]] = []
-        for done, (path, digest, error) in enumerate(workers.map_unordered(hash_file, todo), 1):
+        for done, (path, digest, error) in enumerate(workers.map_unordered(hash_file, todo, hash_failed), 1):
             if digest is None:
                 unreadable.append((path, error or "unreadable"))
             else:
@@ -267,8 +268,11 @@ def analyse_fleet(plan: FleetPlan, store: Store, *, jobs: int = 1, scheduler: st
         store.put([], hashes)
         tasks = plan.pending(store)
         pending: list[AnalysisRecord] = []
-        for record in workers.map_unordered(analyse_task, tasks):
-            pending.append(record)
+        for record in workers.map_unordered(analyse_task, tasks, worker_failed):
+            if record.transient:  # the worker failed, not the recording: report, do not keep
+                unreadable.append((record.path, record.error or "worker failed"))
+            else:
+                pending.append(record)
             analysed += 1
             failed += not record.ok
             if on_record is not None:

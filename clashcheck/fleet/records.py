@@ -61,3 +61,5 @@ class AnalysisRecord:
     warnings: tuple[str, ...] = ()
     #: Wall time of the analysis [s].
     elapsed_s: float = 0.0
+    #: True when the worker failed rather than the recording (reported, never stored).
+    transient: bool = False

@@ -22,7 +22,8 @@ from typing import Any
 from ..errors import ClashcheckError, InputError
 from .records import AnalysisRecord, ModeRecord
 
-__all__ = ["Task", "analyse_task", "hash_file", "Workers", "run_tasks", "DASK_MISSING", "IN_FLIGHT_PER_WORKER"]
+__all__ = ["Task", "analyse_task", "hash_file", "Workers", "run_tasks", "worker_failed", "hash_failed",
+           "DASK_MISSING", "IN_FLIGHT_PER_WORKER"]
 
 #: Tasks kept in flight per worker (bounds memory and the scheduler's queue).
 IN_FLIGHT_PER_WORKER = 4
@@ -49,8 +50,14 @@ class Task:
 
 
 def _mode_record(m: Any) -> ModeRecord:
-    def opt(name: str) -> float | None:  # figures another analysis may add (friction damping)
+    # friction-damping figures, where the analysis gives them: on the mode itself or in its
+    # damping-against-amplitude result (``amplitude_damping``, tap tests)
+    amp = getattr(m, "amplitude_damping", None)
+
+    def opt(name: str) -> float | None:
         v = getattr(m, name, None)
+        if v is None and amp is not None:
+            v = getattr(amp, name, None)
         return None if v is None else float(v)
 
     return ModeRecord(name=m.name, frequency_hz=float(m.frequency_hz),
@@ -222,7 +229,8 @@ class Workers:
                     raise InputError("scheduler", "the address of a running Dask scheduler", self.scheduler,
                                      _one_line(exc)) from None
 
-    def map_unordered(self, fn: Callable[[Any], Any], items: Iterable[Any]) -> Iterator[Any]:
+    def map_unordered(self, fn: Callable[[Any], Any], items: Iterable[Any],
+                      on_failure: Callable[[Any, BaseException], Any] | None = None) -> Iterator[Any]:
         """``fn(item)`` for every item, on the workers; results as they finish.
 
         Parameters
@@ -231,6 +239,9 @@ class Workers:
             A module-level function (it is pickled to the workers).
         items : iterable
             Its arguments, one per call; small and picklable.
+        on_failure : callable, optional
+            ``on_failure(item, exc)`` gives the result of an item whose worker failed
+            (a process killed, a lost cluster worker); without it the error is raised.
 
         Yields
         ------
@@ -245,17 +256,26 @@ class Workers:
             from concurrent.futures import FIRST_COMPLETED, wait
 
             pool = self._pool
-            for fut in _bounded(lambda x: pool.submit(fn, x), lambda p: wait(p, return_when=FIRST_COMPLETED),
+            of: dict[Any, Any] = {}
+
+            def submit_local(x: Any) -> Any:
+                fut = pool.submit(fn, x)
+                of[fut] = x
+                return fut
+
+            for fut in _bounded(submit_local, lambda p: wait(p, return_when=FIRST_COMPLETED),
                                 items, IN_FLIGHT_PER_WORKER * self.jobs):
-                yield fut.result()
+                yield self._result(fut, of.pop(fut), on_failure)
             return
         client = self._client
         workers = max(1, len(client.scheduler_info().get("workers", {})) or self.jobs)
         ac = self._dd.as_completed()
+        item_of: dict[Any, Any] = {}
 
         def submit(x: Any) -> Any:
             fut = client.submit(fn, x, pure=False)
             ac.add(fut)
+            item_of[fut.key] = x
             return fut
 
         def wait_one(pending: set) -> tuple[set, set]:
@@ -264,7 +284,16 @@ class Workers:
             return {fut}, pending
 
         for fut in _bounded(submit, wait_one, items, IN_FLIGHT_PER_WORKER * workers):
-            yield fut.result()
+            yield self._result(fut, item_of.pop(fut.key), on_failure)
+
+    @staticmethod
+    def _result(fut: Any, item: Any, on_failure: Callable[[Any, BaseException], Any] | None) -> Any:
+        try:
+            return fut.result()
+        except Exception as exc:  # noqa: BLE001 - the worker failed, not the recording
+            if on_failure is None:
+                raise
+            return on_failure(item, exc)
 
 
 def run_tasks(tasks: Iterable[Task], *, jobs: int = 1, scheduler: str | None = None,
@@ -284,4 +313,42 @@ def run_tasks(tasks: Iterable[Task], *, jobs: int = 1, scheduler: str | None = N
         One per task, errors included.
     """
     with Workers(jobs, scheduler, processes) as workers:
-        yield from workers.map_unordered(analyse_task, tasks)
+        yield from workers.map_unordered(analyse_task, tasks, worker_failed)
+
+
+def worker_failed(task: Task, exc: BaseException) -> AnalysisRecord:
+    """The record of a task whose worker failed: reported, not stored (a re-run tries again).
+
+    Parameters
+    ----------
+    task : Task
+        The task.
+    exc : BaseException
+        What the worker's failure raised here.
+
+    Returns
+    -------
+    AnalysisRecord
+        ``ok=False``, ``transient=True``, the one-line error.
+    """
+    return AnalysisRecord(content_sha256=task.content_sha256, settings_key=task.settings_key, path=task.path,
+                          kind=task.kind, ok=False, transient=True,
+                          error=f"worker failed: {type(exc).__name__}: {_one_line(exc)}")
+
+
+def hash_failed(path: str, exc: BaseException) -> tuple[str, None, str]:
+    """The result of a hashing task whose worker failed.
+
+    Parameters
+    ----------
+    path : str
+        The file.
+    exc : BaseException
+        What the worker's failure raised here.
+
+    Returns
+    -------
+    tuple
+        ``(path, None, one-line error)``.
+    """
+    return path, None, f"worker failed: {type(exc).__name__}: {_one_line(exc)}"
