@@ -12,6 +12,20 @@ def lazy_getattr(package: str, names: dict[str, str], namespace: dict[str, Any])
 
     The value is stored in ``namespace`` (the package's globals), so each name is
     looked up once.
+
+    Parameters
+    ----------
+    package : str
+        The package's ``__name__``.
+    names : dict of str to str
+        Public name → submodule (relative to the package) that defines it.
+    namespace : dict
+        The package's ``globals()``, where each value is stored once loaded.
+
+    Returns
+    -------
+    callable
+        The package's ``__getattr__``.
     """
 
     def __getattr__(name: str) -> Any:

@@ -10,6 +10,9 @@ They are demo data, never test references.  Run with a fixed seed, so the files
 come out the same each time.
 
 - tap.wav: 8 kHz, mono, 16-bit, six taps two seconds apart (props off!).
+- tap-bolted.wav, tap-pressnut.wav: an invented 7-inch frame tapped at full, half and
+  quarter strength, before and after its arm clamps changed from through-bolts to
+  press nuts (the arm flap mode loses most of its friction damping).
 - flight.csv: 1.6 kHz gyro (deg/s) for 20 s, throttle stepping through six
   levels; columns gx, gy, gz, throttle, rpm (no time column: the rate is 1.6 kHz).
 """
@@ -68,6 +71,21 @@ def make_tap(path: Path) -> None:
                   8000.0)
 
 
+#: An invented 7-inch frame whose arms are clamped to the plates (issue 14's demo):
+#: (frequency Hz, viscous ζ, friction drop per cycle as a fraction of a full tap's amplitude).
+JOINT_BEFORE = [(150.0, 0.004, 0.01), (310.0, 0.01, 0.0), (520.0, 0.02, 0.0)]   # through-bolts
+JOINT_AFTER = [(158.0, 0.004, 0.002), (312.0, 0.01, 0.0), (522.0, 0.02, 0.0)]   # press nuts, threadlocker
+
+
+def make_joint_pair(before: Path, after: Path) -> None:
+    """Graded taps (full, half, quarter strength) before and after the joint change."""
+    gains = (1.0, 0.7, 0.5)
+    for path, figures, seed in ((before, JOINT_BEFORE, 21), (after, JOINT_AFTER, 22)):
+        modes = [SynthMode(f, z, (g,), friction_per_cycle=d) for (f, z, d), g in zip(figures, gains)]
+        write_tap_wav(path, tap_signal(modes, 8000.0, impacts=6, interval_s=1.8, noise_rms=2e-4,
+                                       amplitude=0.6, strengths=(1.0, 0.5, 0.25), seed=seed), 8000.0)
+
+
 def make_flight(path: Path) -> None:
     modes = [SynthMode(f, z, AXIS_GAINS.get(axis, AXIS_GAINS["any"])) for f, z, axis in frame_modes()]
     # invented line strengths (deg/s per axis): blade pass strongest, then 1× rotor
@@ -89,7 +107,8 @@ def main() -> None:
     args.out.mkdir(parents=True, exist_ok=True)
     make_tap(args.out / "tap.wav")
     make_flight(args.out / "flight.csv")
-    for name in ("tap.wav", "flight.csv"):
+    make_joint_pair(args.out / "tap-bolted.wav", args.out / "tap-pressnut.wav")
+    for name in ("tap.wav", "flight.csv", "tap-bolted.wav", "tap-pressnut.wav"):
         p = args.out / name
         print(f"wrote {p} ({p.stat().st_size / 1e3:.0f} kB)")
 

@@ -1,8 +1,8 @@
 """Shared fixtures for the core-engine tests.
 
 - ``runner``: a click ``CliRunner`` for ``clashcheck.cli.main``.
-- an autouse fixture that points ``CLASHCHECK_CACHE_DIR`` at a temporary
-  folder, so no test ever writes the user's cache;
+- (the autouse fixture that keeps the unit cache out of the user's home is in
+  the repository's root ``conftest.py``, so it covers the doctests too);
 - ``write_build``: writes build text (or bytes, or a dict) to ``tmp_path``;
 - ``toml_text``: turns a build dict into TOML text (inline tables only, so any
   mutated shape a fuzz test makes can be written);
@@ -101,14 +101,6 @@ def _inline(value: Any) -> str:
 def toml_dumps(data: dict[str, Any]) -> str:
     """TOML text of ``data``: one ``key = <inline value>`` line per top-level key."""
     return "".join(f"{_key(str(k))} = {_inline(v)}\n" for k, v in data.items())
-
-
-@pytest.fixture(autouse=True)
-def _private_cache(tmp_path_factory: pytest.TempPathFactory, monkeypatch: pytest.MonkeyPatch) -> Path:
-    """Keep the unit-conversion cache out of the user's home folder."""
-    folder = tmp_path_factory.getbasetemp() / "clashcheck-cache"
-    monkeypatch.setenv("CLASHCHECK_CACHE_DIR", str(folder))
-    return folder
 
 
 @pytest.fixture

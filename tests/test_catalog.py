@@ -107,7 +107,7 @@ def test_entries_are_copies():
     assert load_catalog("motors")[MOTORS[0]]["kv"] != "1 rpm/V"
 
 
-@pytest.mark.parametrize("kind", ["motors", "props", "batteries", "frames"])
+@pytest.mark.parametrize("kind", ["motors", "props", "batteries", "frames", "materials"])
 def test_catalog_command_lists_every_entry(runner, kind):
     result = runner.invoke(main, ["catalog", kind])
     assert result.exit_code == 0, result.output
@@ -118,6 +118,35 @@ def test_catalog_command_lists_every_entry(runner, kind):
     data = json.loads(as_json.stdout)
     assert data["kind"] == kind
     assert sorted(e["id"] for e in data["entries"]) == sorted(load_catalog(kind))
+    assert data["schema_version"] >= 1
+
+
+# Conversions by hand from the catalog text (derived): 1 rpm/V = 1/60 Hz/V, 1 in = 0.0254 m,
+# 1 g = 0.001 kg, 1 mohm = 0.001 ohm, 1 GPa = 1e9 Pa.
+@pytest.mark.parametrize("kind, key, text_key, factor", [
+    ("motors", "kv_hz_per_v", "kv", 1 / 60),
+    ("motors", "mass_kg", "mass", 1e-3),
+    ("props", "diameter_m", "diameter", 0.0254),
+    ("batteries", "typical_cell_resistance_ohm", "typical_cell_resistance", 1e-3),
+    ("materials", "modulus_pa", "modulus", 1e9),
+])
+def test_catalog_json_is_si_with_unit_suffixes(runner, kind, key, text_key, factor):
+    data = json.loads(runner.invoke(main, ["catalog", kind, "--format", "json"]).stdout)
+    raw = load_catalog(kind)
+    for item in data["entries"]:
+        written = raw[item["id"]].get(text_key)
+        if written is None:
+            continue
+        number = float(str(written).split()[0])
+        assert item[key] == pytest.approx(number * factor, rel=1e-14)
+        assert repr(item[key]) == repr(float(f"{item[key]:.15g}"))  # no float noise
+
+
+def test_catalog_json_frames_carry_modes_in_hz(runner):
+    data = json.loads(runner.invoke(main, ["catalog", "frames", "--format", "json"]).stdout)
+    for item in data["entries"]:
+        raw_modes = load_catalog("frames")[item["id"]]["modes"]
+        assert [m["frequency_hz"] for m in item["modes"]] == [float(m["frequency"].split()[0]) for m in raw_modes]
 
 
 def test_catalog_command_refuses_an_unknown_kind(runner):

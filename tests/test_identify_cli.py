@@ -9,6 +9,8 @@ import tomllib
 
 import pytest
 
+from clashcheck.report.modes import AMPLITUDE_KEYS
+
 from clashcheck.cli import main
 from clashcheck.identify.result import MeasuredMode, ModesResult, OrderStrength
 from clashcheck.identify.synth import (
@@ -57,7 +59,7 @@ def test_tap_json_keys_are_the_contract(runner, tap_wav):
     assert data["orders"] == []
     for m in data["modes"]:
         assert set(m) == {"name", "frequency_hz", "damping", "damping_low", "damping_high", "axis",
-                          "confidence", "method"}
+                          "confidence", "method"} | set(AMPLITUDE_KEYS)  # + damping against amplitude
     freqs = sorted(m["frequency_hz"] for m in data["modes"])
     assert freqs == pytest.approx([180.0, 420.0], rel=0.01)  # generated modes
 

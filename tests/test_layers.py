@@ -80,3 +80,10 @@ def test_the_walker_sees_relative_and_lazy_imports():
     found = {target for _, target in _imports(PACKAGE / "inputs" / "buildfile.py")}
     assert "clashcheck.model.build" in found  # from ..model.build import ... at the top
     assert "clashcheck.inputs.armfile" in found  # from .armfile import ... inside parse_build
+
+
+def test_every_folder_is_a_regular_package():
+    """A folder without ``__init__.py`` is left out of a non-editable install (setuptools' find)."""
+    folders = {p.parent for p in PACKAGE.rglob("*.py") if "__pycache__" not in p.parts}
+    missing = sorted(str(f.relative_to(PACKAGE)) for f in folders if not (f / "__init__.py").exists())
+    assert not missing, f"add __init__.py to: {missing}"

@@ -71,6 +71,13 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
 def catalog(kind: str, fmt: str) -> None:
     """List the shipped catalog entries of one kind (generic, typical figures)."""
     from ..inputs.catalog import load_catalog
+
+    if fmt == "json":
+        from ..inputs.catalog_entries import validated_entries
+        from ..report.catalog import catalog_json
+
+        click.echo(catalog_json(kind, validated_entries(kind)), nl=False)
+        return
     from ..report.catalog import render_catalog
 
     click.echo(render_catalog(kind, load_catalog(kind), fmt), nl=False)

@@ -4,9 +4,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from ..errors import InputError
 from ..model.modes import MODE_AXES
+
+if TYPE_CHECKING:
+    from .decay import AmplitudeDamping
 
 __all__ = ["MeasuredMode", "OrderStrength", "ModesResult", "ORDER_FAMILIES", "KINDS"]
 
@@ -42,6 +46,8 @@ class MeasuredMode:
     damping_decay: float | None = None
     #: Height of the peak above the spectrum's noise floor [dB].
     prominence_db: float = 0.0
+    #: Damping against amplitude (viscous, friction or mixed decay), tap tests only.
+    amplitude_damping: "AmplitudeDamping | None" = None
 
     def __post_init__(self) -> None:
         if not (math.isfinite(self.frequency_hz) and self.frequency_hz > 0):

@@ -49,10 +49,15 @@ class SynthMode:
     damping: float
     #: Response amplitude per unit forcing, per channel (signal units).
     gains: tuple[float, ...] = (1.0,)
+    #: Coulomb friction in the mode's joint: the amplitude drop per cycle, as a fraction
+    #: of the amplitude a tap of strength 1 gives the mode (0 = viscous only).
+    friction_per_cycle: float = 0.0
 
     def __post_init__(self) -> None:
         if not (self.frequency_hz > 0 and 0 < self.damping < 1):
             raise ValueError("a synthetic mode needs frequency > 0 and 0 < damping < 1")
+        if not 0 <= self.friction_per_cycle < 1:
+            raise ValueError("a synthetic mode's friction_per_cycle lies in [0, 1)")
 
 
 @dataclass(frozen=True)
@@ -138,6 +143,23 @@ def _quantise(x: np.ndarray, full_scale: float, bits: int) -> np.ndarray:
     return np.clip(np.round(x / lsb) * lsb, -full_scale, full_scale - lsb)
 
 
+def _friction_ring(mode: SynthMode, hits: list[tuple[int, float]], n: int, fs: float) -> np.ndarray:
+    """Free response of a mode with viscous and Coulomb damping to impulses (strength, sample)."""
+    wn = 2.0 * math.pi * mode.frequency_hz
+    lam = mode.damping * wn
+    wd = wn * math.sqrt(1.0 - mode.damping**2)
+    rate = mode.friction_per_cycle * mode.frequency_hz  # amplitude lost per second to friction
+    y = np.zeros(n)
+    for i, strength in hits:
+        # A(t) = s e^{−λt} − rate (1 − e^{−λt})/λ reaches 0 at t = ln(1 + s λ/rate)/λ
+        stop = math.log1p(strength * lam / rate) / lam
+        m = min(n - i, int(stop * fs) + 1)
+        t = np.arange(m) / fs
+        env = strength * np.exp(-lam * t) + rate * np.expm1(-lam * t) / lam
+        y[i:i + m] += np.maximum(env, 0.0) * np.sin(wd * t)
+    return y
+
+
 def tap_signal(
     modes: Sequence[SynthMode],
     sample_rate_hz: float,
@@ -150,8 +172,15 @@ def tap_signal(
     bits: int = 16,
     pulse_s: float = 2.5e-4,
     seed: int = 0,
+    strengths: Sequence[float] | None = None,
 ) -> np.ndarray:
     """A tap-test recording: impacts ringing the frame's modes.
+
+    A mode with ``friction_per_cycle`` > 0 rings with the envelope of viscous
+    plus Coulomb damping, dA/dt = −ζωA − D f (linear plus exponential, REFERENCES.md
+    §13), and stops when A reaches 0; each tap is taken as an impulse and the
+    responses of successive taps add (the taps should be far enough apart for
+    the friction mode to have stopped).
 
     Parameters
     ----------
@@ -177,6 +206,9 @@ def tap_signal(
         Length of the half-sine force pulse [s].
     seed : int
         Random seed (tap times and strengths, noise).
+    strengths : sequence of float, optional
+        Relative tap strengths, repeated cyclically ("graded taps", e.g.
+        ``(1.0, 0.5, 0.25)``); default a random 0.7–1.3 each.
 
     Returns
     -------
@@ -193,13 +225,19 @@ def tap_signal(
     plen = max(1, int(round(pulse_s * sample_rate_hz)))
     pulse = np.sin(np.pi * (np.arange(plen) + 0.5) / plen)
     pulse /= pulse.sum()
-    for t0 in times:
+    hits = []
+    for k, t0 in enumerate(times):
         i = int(t0 * sample_rate_hz)
-        force[i:i + plen] += pulse * rng.uniform(0.7, 1.3)
+        strength = rng.uniform(0.7, 1.3) if strengths is None else float(strengths[k % len(strengths)])
+        force[i:i + plen] += pulse * strength
+        hits.append((i, strength))
     out = np.zeros((n, nch))
     for m in modes:
-        b, a = resonator(m.frequency_hz, m.damping, sample_rate_hz)
-        y = signal.lfilter(b, a, force)
+        if m.friction_per_cycle > 0:
+            y = _friction_ring(m, hits, n, sample_rate_hz)
+        else:
+            b, a = resonator(m.frequency_hz, m.damping, sample_rate_hz)
+            y = signal.lfilter(b, a, force)
         for c in range(nch):
             out[:, c] += m.gains[c] * y
     peak = np.max(np.abs(out))
@@ -314,7 +352,7 @@ def write_tap_wav(path: str | os.PathLike[str], samples: np.ndarray, sample_rate
     from scipy.io import wavfile
 
     data = np.clip(np.round(np.asarray(samples) * 32768.0), -32768, 32767).astype(np.int16)
-    with atomic_file(path) as fh:
+    with atomic_file(os.fspath(path)) as fh:
         wavfile.write(fh, int(round(sample_rate_hz)), data)
 
 
@@ -341,7 +379,7 @@ def write_flight_csv(
         names.append(throttle_column)
     if rpm_column:
         names.append(rpm_column)
-    with atomic_file(path) as raw, io.TextIOWrapper(raw, encoding="utf-8", newline="\n") as fh:
+    with atomic_file(os.fspath(path)) as raw, io.TextIOWrapper(raw, encoding="utf-8", newline="\n") as fh:
         fh.write(",".join(names) + "\n")
         for blk in blocks:
             cols, fmts = [], []

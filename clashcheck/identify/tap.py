@@ -370,9 +370,13 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
     out = tuple(MeasuredMode(name=f"mode {i + 1}", **m) for i, m in enumerate(modes))
     if not out:
         warnings.append("no peak stood clear of the noise floor; no modes found")
-    return ModesResult(
+    result = ModesResult(
         recording=os.path.basename(recording.path), kind="tap",
         method="tap test: averaged impact spectra; half-power (window-corrected) and decay fit",
         sample_rate_hz=fs, duration_s=findings.duration_s, resolution_hz=resolution,
         modes=out, orders=(), warnings=tuple(warnings), averages=int(onsets.size),
     )
+    # damping against amplitude per mode (issue 14), kept apart in .decay
+    from .decay import with_amplitude_damping
+
+    return with_amplitude_damping(result, x, onsets, pre)

@@ -13,6 +13,8 @@ build file is evaluated as code.
 
 from __future__ import annotations
 
+import math
+
 import tomllib
 from pathlib import Path
 from typing import Any
@@ -34,6 +36,7 @@ __all__ = [
     "parse_mode",
     "parse_motor",
     "parse_prop",
+    "parse_pack_chemistry",
     "MAX_FILE_BYTES",
 ]
 
@@ -41,10 +44,18 @@ __all__ = [
 MAX_FILE_BYTES = 1_000_000
 
 _TOP_KEYS = ("name", "description", "frame", "motor", "prop", "battery", "sensor", "flight", "check")
-_FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description")
+_FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description", "body", "layout")
 _MODE_KEYS = (
     "name", "frequency", "damping", "axis", "kind", "source",
     "damping_low", "damping_high", "confidence", "method",
+)
+#: Damping against amplitude in a modes file (issue 14; see :func:`_amplitude_damping`).
+_AMPLITUDE_KEYS = (
+    "decay", "damping_model", "viscous_damping", "viscous_damping_low", "viscous_damping_high",
+    "friction_drop_per_cycle", "friction_drop_per_cycle_low", "friction_drop_per_cycle_high",
+    "amplitude_low_rec", "amplitude_high_rec", "damping_at_amplitude_low",
+    "damping_at_amplitude_high", "damping_exponent", "taps_combined", "taps_alike",
+    "operating_amplitude_rec",
 )
 _MOTOR_KEYS = ("catalog", "kv", "poles", "slots", "resistance", "no_load_current", "mass", "stator", "description")
 _PROP_KEYS = (
@@ -101,7 +112,7 @@ def _merge_catalog(raw: dict[str, Any], kind: str, where: str, keys: tuple[str, 
 
 def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
     """One ``[[frame.modes]]`` table → :class:`~clashcheck.modes.Mode`."""
-    f.check_keys(raw, _MODE_KEYS, where)
+    f.check_keys(raw, _MODE_KEYS + _AMPLITUDE_KEYS, where)
     name = f.text(raw, "name", where, required=True)
     assert name is not None
     if not name.strip():
@@ -124,6 +135,7 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
     method = f.text(raw, "method", where)
     if method is not None:
         details["method"] = method
+    damping = _amplitude_damping(raw, where, details, damping)
     return Mode(
         name=name,
         frequency_hz=freq,
@@ -134,6 +146,59 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
         source=f.text(raw, "source", where, default="") or "",
         details=details,
     )
+
+
+def _amplitude_damping(raw: dict[str, Any], where: str, details: dict[str, object],
+                       damping: float | None) -> float | None:
+    """The ζ ``check`` uses for a mode whose damping depends on amplitude.
+
+    With ``operating_amplitude_rec`` (recording units, the same as the
+    measured range), ζ at that amplitude; without it, the lowest ζ over the
+    measured range.  Facts for the report go into ``details``: the single
+    figure (``damping_single``), the basis, the amplitude used and the range.
+    Without the amplitude keys, ``damping`` is returned unchanged.
+    """
+    if "decay" not in raw:
+        if "operating_amplitude_rec" in raw:
+            raise InputError(f"{where}.operating_amplitude_rec", "a mode measured with damping against "
+                             "amplitude (decay, damping_at_amplitude_low, ...)", raw["operating_amplitude_rec"])
+        return damping
+    from ..model.amplitude import AmplitudeDependence
+
+    decay = f.choice(raw, "decay", where, ("viscous", "friction", "mixed"), default="viscous")
+    model = f.choice(raw, "damping_model", where, ("viscous", "friction-viscous", "power-law"),
+                     default="friction-viscous")
+    zeta = {k: f.ratio(raw, k, where, low=0.0, high=1.0, open_low=False, what="a damping ratio",
+                       required=True)
+            for k in ("viscous_damping", "damping_at_amplitude_low", "damping_at_amplitude_high")}
+    amp = {k: f.ratio(raw, k, where, low=0.0, high=math.inf, what="an amplitude in the recording's units",
+                      required=True)
+           for k in ("amplitude_low_rec", "amplitude_high_rec")}
+    drop = f.ratio(raw, "friction_drop_per_cycle", where, low=0.0, high=math.inf, open_low=False,
+                   what="an amplitude drop in the recording's units", default=0.0)
+    op = f.ratio(raw, "operating_amplitude_rec", where, low=0.0, high=math.inf,
+                 what="an amplitude in the recording's units")
+    if amp["amplitude_low_rec"] > amp["amplitude_high_rec"]:  # type: ignore[operator]
+        raise InputError(f"{where}.amplitude_low_rec", "at most amplitude_high_rec",
+                         amp["amplitude_low_rec"])
+    dep = AmplitudeDependence(decay or "viscous", model or "friction-viscous", zeta["viscous_damping"] or 0.0,
+                              drop or 0.0, amp["amplitude_low_rec"] or 0.0, amp["amplitude_high_rec"] or 0.0,
+                              zeta["damping_at_amplitude_low"] or 0.0, zeta["damping_at_amplitude_high"] or 0.0)
+    details.update(amplitude=dep, damping_single=damping)
+    for key in ("viscous_damping_low", "viscous_damping_high"):
+        details[key] = f.ratio(raw, key, where, low=0.0, high=1.0, open_low=False, what="a damping ratio")
+    for key in ("friction_drop_per_cycle_low", "friction_drop_per_cycle_high"):
+        details[key] = f.ratio(raw, key, where, low=0.0, high=math.inf, open_low=False,
+                               what="an amplitude drop in the recording's units")
+    if op is not None:
+        used, basis, at = dep.damping(op), "operating amplitude", op
+    else:
+        (used, at), basis = dep.lowest(), "lowest over the measured range"
+    if not 0.0 < used < 1.0:
+        raise InputError(f"{where}.operating_amplitude_rec", "an amplitude where the measured damping "
+                         "lies between 0 and 1", op)
+    details.update(damping_basis=basis, damping_amplitude_rec=at)
+    return used
 
 
 def _parse_modes(raws: list[dict[str, Any]], where: str, origin: str) -> list[Mode]:
@@ -217,27 +282,55 @@ def parse_prop(raw: dict[str, Any]) -> Propeller:
     return Propeller(diameter, blades, ct, cp, pitch, mass)
 
 
+def parse_pack_chemistry(chem_id: str, raw: dict[str, Any] | None = None,
+                         where: str = "battery") -> tuple[Chemistry, float | None]:
+    """A catalog chemistry, with any per-cell voltages the build overrides.
+
+    Parameters
+    ----------
+    chem_id : str
+        Chemistry id in the batteries catalog, e.g. ``lipo``.
+    raw : dict, optional
+        The build's ``[battery]`` table; its ``cell_full``, ``cell_nominal``
+        and ``cell_empty`` override the catalog's voltages.
+    where : str, optional
+        Field path of ``raw``, for error messages.
+
+    Returns
+    -------
+    tuple of (Chemistry, float or None)
+        The chemistry, and the catalog's typical cell resistance [ohm] when it gives one.
+    """
+    raw = raw or {}
+    base = entry("batteries", chem_id, f"{where}.chemistry")
+    at_base = f"batteries[{chem_id}]"
+    f.check_keys(base, _CHEMISTRY_KEYS, at_base)
+    volts: dict[str, float] = {}
+    for state in PACK_STATES:
+        own_key = f"cell_{state}"
+        src, key, at = (raw, own_key, where) if own_key in raw else (base, state, at_base)
+        value = f.quantity(src, key, at, "V", "3.7 V", required=True, minimum=0.5, maximum=10.0,
+                           range_text="from 0.5 V to 10 V")
+        assert value is not None  # required=True
+        volts[state] = value
+    if not volts["empty"] < volts["nominal"] < volts["full"]:
+        raise InputError(where, "cell voltages with empty < nominal < full",
+                         f"{volts['empty']:g} / {volts['nominal']:g} / {volts['full']:g} V")
+    typical = f.quantity(base, "typical_cell_resistance", at_base, "ohm", "3 mohm", minimum=0.0,
+                         maximum=10.0, range_text="from 0 ohm to 10 ohm")
+    chemistry = Chemistry(chem_id, volts["full"], volts["nominal"], volts["empty"], str(base.get("source", "")))
+    return chemistry, typical
+
+
 def _parse_battery(raw: dict[str, Any]) -> Pack:
     where = "battery"
     f.check_keys(raw, _BATTERY_KEYS, where)
     cells = f.count(raw, "cells", where, minimum=1, maximum=24, required=True, what="a cell count")
     chem_id = f.text(raw, "chemistry", where, default="lipo")
-    base = entry("batteries", chem_id, "battery.chemistry")
-    f.check_keys(base, _CHEMISTRY_KEYS, f"batteries[{chem_id}]")
-    volts = {}
-    for state in PACK_STATES:
-        own_key = f"cell_{state}"
-        src, key, at = (raw, own_key, where) if own_key in raw else (base, state, f"batteries[{chem_id}]")
-        volts[state] = f.quantity(src, key, at, "V", "3.7 V", required=True, minimum=0.5, maximum=10.0,
-                                  range_text="from 0.5 V to 10 V")
-    if not volts["empty"] < volts["nominal"] < volts["full"]:
-        raise InputError("battery", "cell voltages with empty < nominal < full",
-                         f"{volts['empty']:g} / {volts['nominal']:g} / {volts['full']:g} V")
+    assert cells is not None and chem_id is not None
+    chemistry, _ = parse_pack_chemistry(chem_id, raw, where)
     resistance = f.quantity(raw, "cell_resistance", where, "ohm", "3 mohm", default=0.0, minimum=0.0,
                             maximum=10.0, range_text="from 0 ohm to 10 ohm")
-    assert cells is not None and chem_id is not None
-    chemistry = Chemistry(chem_id, volts["full"], volts["nominal"], volts["empty"],  # type: ignore[arg-type]
-                          str(base.get("source", "")))
     return Pack(cells, chemistry, resistance or 0.0)
 
 
@@ -367,10 +460,22 @@ def parse_build(data: dict[str, Any], *, path: str | None = None) -> Build:
             arm_raw, field="frame.arm", motor_mass_kg=motor.mass_kg, prop_mass_kg=prop.mass_kg
         )
         measured_names = {m.name for m in modes}
-        estimate = arm_module.estimate_arm(arm)
-        estimated = arm_module.estimated_modes(estimate)
+        # --- frame model (issue 15): [frame.body] replaces the single-arm estimate
+        from .framefile import frame_estimate_for_build
+
+        frame_found = frame_estimate_for_build(frame, arm, motors)  # type: ignore[arg-type]
+        if frame_found is not None:
+            estimated, estimate_notes = frame_found
+            notes += [f"frame model: {n}" for n in estimate_notes]
+        else:
+            estimate = arm_module.estimate_arm(arm)
+            estimated = arm_module.estimated_modes(estimate)
+            notes += [f"arm estimate: {n}" for n in estimate.notes]
+        # --- end frame model
         modes = modes + [m for m in estimated if m.name not in measured_names]
-        notes += [f"arm estimate: {n}" for n in estimate.notes]
+    elif "body" in frame or "layout" in frame:  # type: ignore[operator]
+        raise InputError("frame.arm", "an [frame.arm] table with [frame.body] and [frame.layout]",
+                         "nothing", "the frame model needs the arms' section and material")
     if not modes:
         raise InputError("frame.modes", "at least one [[frame.modes]] entry, a frame catalog or [frame.arm]", [])
     return Build(

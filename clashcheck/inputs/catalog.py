@@ -29,7 +29,18 @@ KINDS = {
 
 
 def catalog_path(kind: str) -> Path:
-    """Path of a catalog file, installed or in a source checkout."""
+    """Path of a catalog file, installed or in a source checkout.
+
+    Parameters
+    ----------
+    kind : str
+        Catalog kind, one of ``KINDS``.
+
+    Returns
+    -------
+    pathlib.Path
+        The catalog file.
+    """
     if kind not in KINDS:
         raise InputError("catalog", "one of " + ", ".join(KINDS), kind)
     return Path(__file__).resolve().parent.parent / "catalogs" / f"{kind}.toml"
@@ -66,7 +77,22 @@ def load_catalog(kind: str) -> dict[str, dict[str, Any]]:
 
 
 def entry(kind: str, ident: object, field: str) -> dict[str, Any]:
-    """One catalog entry, or an :class:`InputError` with a "did you mean" hint."""
+    """One catalog entry, or an :class:`InputError` with a "did you mean" hint.
+
+    Parameters
+    ----------
+    kind : str
+        Catalog kind, one of ``KINDS``.
+    ident : object
+        The entry id as written in the build file.
+    field : str
+        The build-file field that named it, for the error message.
+
+    Returns
+    -------
+    dict
+        A copy of the raw entry.
+    """
     import difflib
 
     entries = load_catalog(kind)

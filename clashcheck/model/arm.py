@@ -122,6 +122,7 @@ ARM_KEYS = (
     "material",
     "modulus",
     "density",
+    "shear_modulus",
     "tip_mass",
     "tip_inertia",
     "clamp_stiffness",
@@ -188,9 +189,15 @@ class Material:
     density_high_kg_m3: float
     #: Where the figures came from (citation, or "typical ...").
     source: str = ""
+    #: Nominal shear modulus for torsion of the arm [Pa]; ``None`` when not
+    #: known (only the frame model, :mod:`clashcheck.model.frame`, needs it).
+    shear_modulus_pa: float | None = None
 
     def __post_init__(self) -> None:
         where = f"material {self.id!r}"
+        if self.shear_modulus_pa is not None:
+            _check_positive(self.shear_modulus_pa, f"{where}.shear_modulus",
+                            "a shear modulus above 0 Pa")
         for name, low, mid, high, unit in (
             ("modulus", self.modulus_low_pa, self.modulus_pa, self.modulus_high_pa, "Pa"),
             ("density", self.density_low_kg_m3, self.density_kg_m3, self.density_high_kg_m3,
@@ -356,7 +363,18 @@ class ArmGeometry:
         return self.length_m * (self.effective_length_factor or 1.0)
 
     def depth_m(self, plane: str) -> float:
-        """Section size in the bending direction of ``plane`` [m]."""
+        """Section size in the bending direction of ``plane`` [m].
+
+        Parameters
+        ----------
+        plane : str
+            ``flap`` or ``lead-lag``.
+
+        Returns
+        -------
+        float
+            Section depth in that bending plane [m].
+        """
         _check_plane(plane)
         if self.section == "tube":
             assert self.outer_diameter_m is not None
@@ -369,6 +387,11 @@ class ArmGeometry:
 
         Rectangle: A = w·t; flap I = w·t³/12, lead-lag I = t·w³/12.  Tube:
         A = π(D² − d²)/4 and I = π(D⁴ − d⁴)/64 in both planes, d = D − 2·wall.
+
+        Parameters
+        ----------
+        plane : str
+            ``flap`` or ``lead-lag``.
         """
         _check_plane(plane)
         if self.section == "tube":
@@ -383,7 +406,18 @@ class ArmGeometry:
         return b * t, t * b**3 / 12.0
 
     def beam_mass_kg(self, density_kg_m3: float | None = None) -> float:
-        """Mass of the free length of arm (nominal density unless given) [kg]."""
+        """Mass of the free length of arm (nominal density unless given) [kg].
+
+        Parameters
+        ----------
+        density_kg_m3 : float, optional
+            Material density [kg/m³]; the material's nominal density when omitted.
+
+        Returns
+        -------
+        float
+            Mass of the free length [kg].
+        """
         rho = self.material.density_kg_m3 if density_kg_m3 is None else density_kg_m3
         return rho * self.section_properties("flap")[0] * self.length_m
 
@@ -867,6 +901,11 @@ def estimated_modes(estimate: ArmEstimate) -> tuple[Mode, ...]:
     build's default damping is then used and marked as assumed), and the
     material spread as its frequency range.  Flap modes show on any axis
     (roll and pitch), lead-lag modes on yaw.
+
+    Parameters
+    ----------
+    estimate : ArmEstimate
+        The arm estimate.
 
     Examples
     --------

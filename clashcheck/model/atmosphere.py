@@ -27,6 +27,16 @@ _TROPOPAUSE_M = 11000.0
 def geopotential_height_m(altitude_m: float) -> float:
     """Geopotential height H = r·z/(r + z) [m] of a geometric altitude z [m].
 
+    Parameters
+    ----------
+    altitude_m : float
+        Geometric altitude z [m].
+
+    Returns
+    -------
+    float
+        Geopotential height H [m].
+
     Examples
     --------
     >>> round(geopotential_height_m(1000.0), 3)

@@ -42,7 +42,18 @@ class Chemistry:
             )
 
     def cell_voltage(self, state: str) -> float:
-        """Cell voltage [V] at a pack state."""
+        """Cell voltage [V] at a pack state.
+
+        Parameters
+        ----------
+        state : str
+            Pack state: ``full``, ``nominal`` or ``empty``.
+
+        Returns
+        -------
+        float
+            Cell voltage [V].
+        """
         if state == "full":
             return self.full_v
         if state == "nominal":
@@ -73,6 +84,16 @@ class Pack:
 
     def voltage(self, state: str) -> float:
         """Open-circuit pack voltage [V] at a pack state.
+
+        Parameters
+        ----------
+        state : str
+            Pack state: ``full``, ``nominal`` or ``empty``.
+
+        Returns
+        -------
+        float
+            Open-circuit pack voltage [V].
 
         Examples
         --------

@@ -125,21 +125,85 @@ class Build:
         )
 
     def with_measured(self, measured: "MeasuredModes") -> "Build":
-        """This build with measured modes merged in.
+        """This build with measured modes in the place of the modes they measure.
 
-        A measured mode replaces a mode of the same name; the others are
-        added.  Measured order strengths replace the default weights.
+        Each measured mode replaces the build mode it measures, by name or
+        else by frequency and axis (:func:`clashcheck.model.reconcile.reconcile`);
+        the others are added, so no physical mode appears twice.  Ambiguous
+        matches and estimates that miss the measurement become notes, as do
+        modes whose damping depends on amplitude.  Measured order strengths
+        replace the default weights.
+
+        Parameters
+        ----------
+        measured : MeasuredModes
+            The content of a modes file.
+
+        Returns
+        -------
+        Build
         """
-        names = {m.name for m in measured.modes}
-        modes = tuple(m for m in self.modes if m.name not in names) + measured.modes
+        from .reconcile import reconcile
+
+        rec = reconcile(self.modes, measured.modes)
         strengths = measured.order_strengths or self.check.order_strengths
-        note = f"{len(measured.modes)} measured mode(s) merged from {measured.path}"
+        notes = [f"{len(measured.modes)} measured mode(s) merged from {measured.path}: "
+                 f"{len(rec.matches)} replace build modes, {len(rec.added)} added"]
+        for m in rec.matches:
+            if m.measured != m.replaced:
+                via = "by name" if m.how == "name" else (
+                    "inside its estimated range" if m.how == "range" else "by frequency and axis")
+                notes.append(f"measured '{m.measured}' replaces {m.replaced_origin} mode '{m.replaced}' "
+                             f"({via}, {100 * m.difference:+.1f} %)")
+        for meas, chosen, other in rec.ambiguous:
+            notes.append(f"warning: '{meas}' matched '{chosen}', but '{other}' is almost as close; rename "
+                         "the measured mode in the modes file to choose")
+        for est, f, lo, hi, meas, fm in rec.missed:
+            notes.append(f"warning: the estimate '{est}' ({f:.0f} Hz, range {lo:.0f}–{hi:.0f} Hz) misses "
+                         f"the measured '{meas}' ({fm:.0f} Hz) by {100 * (fm / f - 1):+.0f} %, more than its "
+                         "own range; trust the measurement")
+        notes += _amplitude_notes(rec.modes, self.check.policy)
         return replace(
             self,
-            modes=modes,
+            modes=rec.modes,
             check=replace(self.check, order_strengths=strengths),
-            notes=self.notes + (note,),
+            notes=self.notes + tuple(notes),
         )
+
+
+def _amplitude_notes(modes: tuple[Mode, ...], policy: MarginPolicy) -> list[str]:
+    """Notes on modes whose damping depends on amplitude: which ζ check uses and why."""
+    out = []
+    for m in modes:
+        basis = m.details.get("damping_basis")
+        dep = m.details.get("amplitude")
+        if basis is None or m.damping is None or dep is None or getattr(dep, "decay", "") == "viscous":
+            continue
+        at = m.details.get("damping_amplitude_rec")
+        single = m.details.get("damping_single")
+        lo, hi = getattr(dep, "amplitude_low", 0.0), getattr(dep, "amplitude_high", 0.0)
+        where = (f"at the stated operating amplitude {at:.3g}" if basis == "operating amplitude"
+                 else f"the lowest over the measured amplitude range {lo:.3g}–{hi:.3g} (at {at:.3g})")
+        text = (f"'{m.name}': damping depends on amplitude ({getattr(dep, 'decay', '')} decay); check uses "
+                f"ζ = {m.damping:.4f}, {where}, in the recording's units")
+        if basis == "operating amplitude" and isinstance(at, float) and not lo <= at <= hi:
+            text += " (outside the measured range: extrapolated)"
+        if isinstance(single, float):
+            text += f"; the single figure from the whole decay is {single:.4f}"
+            if m.damping < 0.7 * single:
+                old_sm, new_sm = policy.margin_for_damping(single), policy.margin_for_damping(m.damping)
+                text += (f". The lower damping raises the amplification factor from {1 / (2 * single):.0f} "
+                         f"to {1 / (2 * m.damping):.0f}")
+                if float(new_sm) > float(old_sm) + 1e-4:
+                    text += (f", so the required margin grows from {100 * float(old_sm):.1f} % "
+                             f"to {100 * float(new_sm):.1f} %")
+                else:
+                    text += (f"; the required margin stays at {100 * float(new_sm):.1f} % (the policy's "
+                             "largest), but a crossing rings higher")
+        if basis != "operating amplitude":
+            text += "; set operating_amplitude_rec in the modes file to use the damping at the amplitude seen in flight"
+        out.append(text)
+    return out
 
 
 @dataclass(frozen=True)

@@ -98,6 +98,30 @@ def throttle_at_rad_s(omega_rad_s, v_oc, ke, r_m=0.0, i0=0.0, kq=0.0, n_motors=1
     throttle and the result is ``inf``.  Results above 1 mean the speed
     needs more than full throttle.
 
+    Parameters
+    ----------
+    omega_rad_s : float or array_like
+        Shaft speed [rad/s].
+    v_oc : float or array_like
+        Open-circuit pack voltage [V].
+    ke : float
+        Back-EMF constant Ke = Kt [V·s/rad].
+    r_m : float, optional
+        Winding resistance, line to line [ohm]; 0 when not given.
+    i0 : float, optional
+        No-load current [A]; 0 when not given.
+    kq : float, optional
+        Propeller torque coefficient k in Q = k·ω² [N·m·s²/rad²]; 0 without a C_P.
+    n_motors : int, optional
+        Motors sharing the pack.
+    r_pack : float, optional
+        Pack resistance [ohm]; 0 when not given.
+
+    Returns
+    -------
+    numpy.ndarray
+        Throttle [fraction], broadcast over the inputs; ``inf`` where the speed cannot be reached.
+
     Examples
     --------
     >>> ke = 60 / (2 * np.pi * 920)
@@ -117,6 +141,24 @@ def hover_rotor_hz(mass_kg, n_motors, thrust_coefficient, density_kg_m3, diamete
     """Rotor rate [rev/s] at which N rotors carry the weight: N·T = m·g.
 
     n_hover = √(m·g / (N·C_T·ρ·D⁴)).
+
+    Parameters
+    ----------
+    mass_kg : float or array_like
+        All-up mass [kg].
+    n_motors : int or array_like
+        Number of rotors.
+    thrust_coefficient : float or array_like
+        Static thrust coefficient C_T [-].
+    density_kg_m3 : float
+        Air density [kg/m³].
+    diameter_m : float or array_like
+        Propeller diameter [m].
+
+    Returns
+    -------
+    numpy.ndarray
+        Hover rotor rate [rev/s].
     """
     return np.sqrt(
         mass_kg * STANDARD_GRAVITY / (n_motors * thrust_coefficient * density_kg_m3 * diameter_m**4)
@@ -235,17 +277,58 @@ class Drive:
         return "loaded model (" + ", ".join(self.loaded_terms) + ")"
 
     def rotor_hz(self, throttle, pack_state: str = "nominal") -> np.ndarray:
-        """Steady rotor rate [Hz] at ``throttle`` [fraction] and a pack state."""
+        """Steady rotor rate [Hz] at ``throttle`` [fraction] and a pack state.
+
+        Parameters
+        ----------
+        throttle : float or array_like
+            Throttle [fraction, 0–1].
+        pack_state : str, optional
+            ``full``, ``nominal`` or ``empty``.
+
+        Returns
+        -------
+        numpy.ndarray
+            Steady rotor rate [Hz].
+        """
         v = self.pack.voltage(pack_state)
         return rotor_rad_s(throttle, v, **self.parameters.as_kwargs()) / TWO_PI
 
     def throttle_at(self, rotor_hz, pack_state: str = "nominal") -> np.ndarray:
-        """Throttle [fraction] giving the steady rotor rate ``rotor_hz`` [Hz]."""
+        """Throttle [fraction] giving the steady rotor rate ``rotor_hz`` [Hz].
+
+        Parameters
+        ----------
+        rotor_hz : float or array_like
+            Rotor rate [Hz].
+        pack_state : str, optional
+            ``full``, ``nominal`` or ``empty``.
+
+        Returns
+        -------
+        numpy.ndarray
+            Throttle [fraction]; above 1 or ``inf`` when out of reach.
+        """
         v = self.pack.voltage(pack_state)
         return throttle_at_rad_s(np.asarray(rotor_hz, dtype=float) * TWO_PI, v, **self.parameters.as_kwargs())
 
     def hover(self, mass_kg: float, pack_state: str, stated_throttle: float | None = None) -> Hover:
-        """Hover point at a pack state, computed from C_T or taken as stated."""
+        """Hover point at a pack state, computed from C_T or taken as stated.
+
+        Parameters
+        ----------
+        mass_kg : float
+            All-up mass [kg].
+        pack_state : str
+            ``full``, ``nominal`` or ``empty``.
+        stated_throttle : float, optional
+            A hover throttle [fraction] stated by the build; used as it is.
+
+        Returns
+        -------
+        Hover
+            Throttle, rotor rate and how the point was found (``computed``, ``stated`` or ``unknown``).
+        """
         if stated_throttle is not None:
             rate = float(self.rotor_hz(stated_throttle, pack_state))
             return Hover(pack_state, float(stated_throttle), rate, "stated")

@@ -51,23 +51,73 @@ class Propeller:
             raise InputError("prop.mass", "a mass above 0 g", self.mass_kg)
 
     def thrust_n(self, rotor_hz: np.ndarray | float, density_kg_m3: float) -> np.ndarray:
-        """Static thrust T = C_T ρ n² D⁴ [N] at rotor rate ``rotor_hz`` [rev/s]."""
+        """Static thrust T = C_T ρ n² D⁴ [N] at rotor rate ``rotor_hz`` [rev/s].
+
+        Parameters
+        ----------
+        rotor_hz : float or array_like
+            Rotor rate n [rev/s].
+        density_kg_m3 : float
+            Air density ρ [kg/m³].
+
+        Returns
+        -------
+        numpy.ndarray
+            Thrust [N].
+        """
         if self.thrust_coefficient is None:
             raise InputError("prop.thrust_coefficient", "a static C_T for thrust", None)
         n = np.asarray(rotor_hz, dtype=float)
         return self.thrust_coefficient * density_kg_m3 * n**2 * self.diameter_m**4
 
     def power_w(self, rotor_hz: np.ndarray | float, density_kg_m3: float) -> np.ndarray:
-        """Shaft power P = C_P ρ n³ D⁵ [W]."""
+        """Shaft power P = C_P ρ n³ D⁵ [W].
+
+        Parameters
+        ----------
+        rotor_hz : float or array_like
+            Rotor rate n [rev/s].
+        density_kg_m3 : float
+            Air density ρ [kg/m³].
+
+        Returns
+        -------
+        numpy.ndarray
+            Shaft power [W]; zero without a C_P.
+        """
         return self.torque_n_m(rotor_hz, density_kg_m3) * TWO_PI * np.asarray(rotor_hz, dtype=float)
 
     def torque_n_m(self, rotor_hz: np.ndarray | float, density_kg_m3: float) -> np.ndarray:
-        """Load torque Q = (C_P/2π) ρ n² D⁵ [N·m]; zero without a C_P."""
+        """Load torque Q = (C_P/2π) ρ n² D⁵ [N·m]; zero without a C_P.
+
+        Parameters
+        ----------
+        rotor_hz : float or array_like
+            Rotor rate n [rev/s].
+        density_kg_m3 : float
+            Air density ρ [kg/m³].
+
+        Returns
+        -------
+        numpy.ndarray
+            Load torque [N·m].
+        """
         n = np.asarray(rotor_hz, dtype=float)
         return self.torque_coefficient(density_kg_m3) * (TWO_PI * n) ** 2
 
     def torque_coefficient(self, density_kg_m3: float) -> float:
-        """k in Q = k·ω² [N·m·s²/rad²]: C_P ρ D⁵ / (8π³); 0 without a C_P."""
+        """k in Q = k·ω² [N·m·s²/rad²]: C_P ρ D⁵ / (8π³); 0 without a C_P.
+
+        Parameters
+        ----------
+        density_kg_m3 : float
+            Air density ρ [kg/m³].
+
+        Returns
+        -------
+        float
+            k [N·m·s²/rad²].
+        """
         if self.power_coefficient is None:
             return 0.0
         return self.power_coefficient * density_kg_m3 * self.diameter_m**5 / (8.0 * math.pi**3)

@@ -20,6 +20,16 @@ TWO_PI = 2.0 * math.pi
 def rpm_to_hz(rpm: Any) -> Any:
     """Revolutions per minute to revolutions per second (Hz).
 
+    Parameters
+    ----------
+    rpm : float or array_like
+        Revolutions per minute.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Revolutions per second [Hz].
+
     Examples
     --------
     >>> rpm_to_hz(60.0)
@@ -31,6 +41,16 @@ def rpm_to_hz(rpm: Any) -> Any:
 def hz_to_rpm(hz: Any) -> Any:
     """Revolutions per second (Hz) to revolutions per minute.
 
+    Parameters
+    ----------
+    hz : float or array_like
+        Revolutions per second [Hz].
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Revolutions per minute.
+
     Examples
     --------
     >>> hz_to_rpm(1.0)
@@ -40,10 +60,32 @@ def hz_to_rpm(hz: Any) -> Any:
 
 
 def rad_s_to_hz(omega_rad_s: Any) -> Any:
-    """Angular speed in rad/s to revolutions per second (Hz)."""
+    """Angular speed in rad/s to revolutions per second (Hz).
+
+    Parameters
+    ----------
+    omega_rad_s : float or array_like
+        Angular speed [rad/s].
+
+    Returns
+    -------
+    numpy.ndarray
+        Revolutions per second [Hz].
+    """
     return np.asarray(omega_rad_s, dtype=float) / TWO_PI
 
 
 def hz_to_rad_s(freq_hz: Any) -> Any:
-    """Revolutions per second (Hz) to angular speed in rad/s."""
+    """Revolutions per second (Hz) to angular speed in rad/s.
+
+    Parameters
+    ----------
+    freq_hz : float or array_like
+        Revolutions per second [Hz].
+
+    Returns
+    -------
+    numpy.ndarray
+        Angular speed [rad/s].
+    """
     return np.asarray(freq_hz, dtype=float) * TWO_PI

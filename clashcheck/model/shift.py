@@ -116,7 +116,13 @@ class MassShift:
 
 
 def is_arm_mode(mode: Mode) -> bool:
-    """Whether a swap of tip mass moves this mode (``kind == "arm"``)."""
+    """Whether a swap of tip mass moves this mode (``kind == "arm"``).
+
+    Parameters
+    ----------
+    mode : Mode
+        A frame mode.
+    """
     return mode.kind == "arm"
 
 

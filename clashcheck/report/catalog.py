@@ -2,11 +2,14 @@
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from .common import dump_json
+from .common import JSON_SCHEMA_VERSION, dump_json, rounded
 
-__all__ = ["render_catalog"]
+if TYPE_CHECKING:
+    from ..inputs.catalog_entries import CatalogItem
+
+__all__ = ["render_catalog", "catalog_json"]
 
 
 _CATALOG_COLUMNS = {
@@ -19,9 +22,22 @@ _CATALOG_COLUMNS = {
 
 
 def render_catalog(kind: str, entries: dict[str, dict[str, Any]], fmt: str) -> str:
-    """A catalog listing as a table or JSON."""
-    if fmt == "json":
-        return dump_json({"kind": kind, "entries": [{"id": k, **v} for k, v in entries.items()]})
+    """A catalog listing as a table, values as written in the catalog.
+
+    Parameters
+    ----------
+    kind : str
+        Catalog kind, e.g. ``motors``.
+    entries : dict of str to dict
+        The raw catalog entries by id.
+    fmt : str
+        ``table`` (the only text layout; JSON is :func:`catalog_json`).
+
+    Returns
+    -------
+    str
+        The rendered catalog.
+    """
     from tabulate import tabulate
 
     columns = _CATALOG_COLUMNS.get(kind, [])
@@ -37,3 +53,22 @@ def render_catalog(kind: str, entries: dict[str, dict[str, Any]], fmt: str) -> s
         rows.append(row)
     head = f"{kind} catalog: generic, typical figures for first estimates, not any maker's data\n\n"
     return head + tabulate(rows, headers=["id", *columns, "description"], tablefmt="simple") + "\n"
+
+
+def catalog_json(kind: str, items: list[CatalogItem]) -> str:
+    """A catalog listing as JSON, values in SI under unit-suffixed keys.
+
+    Parameters
+    ----------
+    kind : str
+        Catalog kind, e.g. ``motors``.
+    items : list of CatalogItem
+        The validated entries (:func:`clashcheck.inputs.catalog_entries.validated_entries`).
+
+    Returns
+    -------
+    str
+        JSON text with ``schema_version``, ``kind`` and ``entries``.
+    """
+    entries = [{"id": it.id, "description": it.description, **rounded(it.values)} for it in items]
+    return dump_json({"schema_version": JSON_SCHEMA_VERSION, "kind": kind, "entries": entries})

@@ -6,7 +6,7 @@ import json
 import math
 from typing import Any
 
-__all__ = ["CAUTIONS", "JSON_SCHEMA_VERSION", "pct", "dump_json", "num"]
+__all__ = ["CAUTIONS", "JSON_SCHEMA_VERSION", "pct", "dump_json", "num", "rounded"]
 
 #: Safety lines printed with results that may lead to hardware work.
 CAUTIONS = (
@@ -21,7 +21,20 @@ JSON_SCHEMA_VERSION = 1
 
 
 def pct(x: float | None, digits: int = 0) -> str:
-    """A fraction as a percentage string; ``-`` for ``None`` or ``nan``."""
+    """A fraction as a percentage string; ``-`` for ``None`` or ``nan``.
+
+    Parameters
+    ----------
+    x : float or None
+        A fraction.
+    digits : int, optional
+        Decimal places.
+
+    Returns
+    -------
+    str
+        For example ``'27 %'``.
+    """
     if x is None or (isinstance(x, float) and math.isnan(x)):
         return "-"
     if math.isinf(x):
@@ -30,12 +43,66 @@ def pct(x: float | None, digits: int = 0) -> str:
 
 
 def num(x: float | None) -> float | None:
-    """JSON-safe float: ``None`` for nan and inf."""
+    """JSON-safe float: ``None`` for nan and inf.
+
+    Parameters
+    ----------
+    x : float or None
+        A number.
+
+    Returns
+    -------
+    float or None
+        ``x``, or ``None`` when it is missing or not finite (JSON has no nan).
+    """
     if x is None or not math.isfinite(x):
         return None
     return float(x)
 
 
 def dump_json(data: Any) -> str:
-    """JSON text with a trailing newline, refusing nan/inf."""
+    """JSON text with a trailing newline, refusing nan/inf.
+
+    Parameters
+    ----------
+    data : object
+        JSON-ready data (dicts, lists, numbers, strings).
+
+    Returns
+    -------
+    str
+        Indented JSON text ending in a newline.
+    """
     return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+def rounded(data: Any, digits: int = 15) -> Any:
+    """``data`` with every float rounded to ``digits`` significant digits.
+
+    Unit conversions leave float noise (``0.0036000000000000003`` for 3.6 g);
+    fifteen significant digits drop that noise and keep every figure the inputs carry.
+
+    Parameters
+    ----------
+    data : object
+        Floats, or dicts, lists and tuples of them (other values pass through).
+    digits : int, optional
+        Significant digits to keep.
+
+    Returns
+    -------
+    object
+        The same shape, floats rounded (non-finite floats unchanged).
+
+    Examples
+    --------
+    >>> rounded({"mass_kg": 0.0036000000000000003, "n": [25.200000000000003]})
+    {'mass_kg': 0.0036, 'n': [25.2]}
+    """
+    if isinstance(data, float):
+        return float(f"{data:.{digits}g}") if math.isfinite(data) else data
+    if isinstance(data, dict):
+        return {k: rounded(v, digits) for k, v in data.items()}
+    if isinstance(data, (list, tuple)):
+        return [rounded(v, digits) for v in data]
+    return data

@@ -13,15 +13,84 @@ import json
 import math
 from typing import Any
 
+from ..identify.decay import AmplitudeDamping
 from ..identify.result import ModesResult
 from .common import CAUTIONS
 
-__all__ = ["to_json_dict", "render_json", "render_table", "render_toml", "CAUTIONS"]
+__all__ = ["to_json_dict", "render_json", "render_table", "render_toml", "CAUTIONS", "amplitude_fields",
+           "amplitude_entries", "AMPLITUDE_KEYS"]
 
 
 
 def _r(x: float | None, nd: int = 6) -> float | None:
     return None if x is None else round(float(x), nd)
+
+
+def amplitude_fields(a: AmplitudeDamping | None) -> dict[str, Any]:
+    """The damping-against-amplitude keys of one mode (JSON and modes file).
+
+    Amplitudes and the friction drop are in the recording's own units (the
+    signal as read); the ``_rec`` suffix says so.  Every key is present; the
+    values are ``None`` when the decay could not be followed.
+
+    Examples
+    --------
+    >>> sorted(amplitude_fields(None))[:3]
+    ['amplitude_high_rec', 'amplitude_low_rec', 'damping_at_amplitude_high']
+    """
+    if a is None:
+        return dict.fromkeys(AMPLITUDE_KEYS)
+    return {
+        "decay": a.decay,
+        "damping_model": a.model,
+        "viscous_damping": _r(a.viscous_damping),
+        "viscous_damping_low": _r(a.viscous_damping_low),
+        "viscous_damping_high": _r(a.viscous_damping_high),
+        "friction_drop_per_cycle": _sig(a.friction_drop_per_cycle),
+        "friction_drop_per_cycle_low": _sig(a.friction_drop_low),
+        "friction_drop_per_cycle_high": _sig(a.friction_drop_high),
+        "amplitude_low_rec": _sig(a.amplitude_low),
+        "amplitude_high_rec": _sig(a.amplitude_high),
+        "damping_at_amplitude_low": _r(a.damping_at_amplitude_low),
+        "damping_at_amplitude_high": _r(a.damping_at_amplitude_high),
+        "damping_exponent": _r(a.power_exponent, 4),
+        "taps_combined": a.taps,
+        "taps_alike": a.taps_alike,
+    }
+
+
+def amplitude_entries(mode: Any) -> dict[str, Any]:
+    """The damping-against-amplitude keys of a mode's ``[[frame.modes]]`` table (no ``None`` values).
+
+    Parameters
+    ----------
+    mode : MeasuredMode
+        A measured mode.
+
+    Returns
+    -------
+    dict
+        Empty when the mode has no damping against amplitude.
+    """
+    if getattr(mode, "amplitude_damping", None) is None:
+        return {}
+    return {k: v for k, v in amplitude_fields(mode.amplitude_damping).items() if v is not None}
+
+
+#: Keys :func:`amplitude_fields` gives each mode, in order.
+AMPLITUDE_KEYS = (
+    "decay", "damping_model", "viscous_damping", "viscous_damping_low", "viscous_damping_high",
+    "friction_drop_per_cycle", "friction_drop_per_cycle_low", "friction_drop_per_cycle_high",
+    "amplitude_low_rec", "amplitude_high_rec", "damping_at_amplitude_low",
+    "damping_at_amplitude_high", "damping_exponent", "taps_combined", "taps_alike",
+)
+
+
+def _sig(x: float | None, digits: int = 6) -> float | None:
+    """``x`` to ``digits`` significant figures (amplitudes in any units)."""
+    if x is None or x == 0 or not math.isfinite(x):
+        return None if x is None else float(x)
+    return round(float(x), digits - 1 - int(math.floor(math.log10(abs(x)))))
 
 
 def to_json_dict(result: ModesResult) -> dict[str, Any]:
@@ -44,6 +113,7 @@ def to_json_dict(result: ModesResult) -> dict[str, Any]:
             "axis": m.axis,
             "confidence": _r(m.confidence, 3),
             "method": m.method,
+            **(amplitude_fields(m.amplitude_damping) if result.kind == "tap" else {}),
         }
         for m in result.modes
     ]
@@ -103,6 +173,10 @@ def render_table(result: ModesResult) -> str:
         lines.append(tabulate(rows, headers=head, tablefmt="simple", disable_numparse=True))
     else:
         lines.append("no modes found")
+    amp = [m for m in result.modes if m.amplitude_damping is not None]
+    if amp:
+        lines += ["", "damping against amplitude (amplitudes and drop in the recording's units; "
+                  "95 % intervals):", _amplitude_table(amp)]
     if result.orders:
         lines += ["", tabulate(
             [[f"{o.order:g}", o.family, f"{o.relative_strength:.3f}"] for o in result.orders],
@@ -112,6 +186,26 @@ def render_table(result: ModesResult) -> str:
         lines += ["", "warnings:"] + [f"  - {w}" for w in result.warnings]
     lines += ["", "cautions:"] + [f"  - {c}" for c in CAUTIONS]
     return "\n".join(lines) + "\n"
+
+
+def _amplitude_table(modes: list) -> str:
+    from tabulate import tabulate
+
+    rows = []
+    for m in modes:
+        a = m.amplitude_damping
+        model = a.model + (f" p={a.power_exponent:.2f}" if a.power_exponent is not None else "")
+        rows.append([
+            m.name, a.decay, model,
+            f"{a.viscous_damping:.4f} ({a.viscous_damping_low:.4f}–{a.viscous_damping_high:.4f})",
+            f"{a.friction_drop_per_cycle:.3g} ({a.friction_drop_low:.3g}–{a.friction_drop_high:.3g})",
+            f"{a.amplitude_low:.3g}–{a.amplitude_high:.3g}",
+            f"{a.damping_at_amplitude_low:.4f} → {a.damping_at_amplitude_high:.4f}",
+            f"{a.taps}" + (" (alike)" if a.taps_alike else ""),
+        ])
+    return tabulate(rows, headers=["mode", "decay", "model", "ζ viscous", "friction drop/cycle",
+                                   "amplitude range", "ζ bottom → top", "taps"],
+                    tablefmt="simple", disable_numparse=True)
 
 
 def _toml_string(text: str) -> str:
@@ -185,6 +279,20 @@ def render_toml(result: ModesResult, today: _dt.date | None = None) -> str:
         lines.append(f"source = {_toml_string(source)}")
         lines.append(f"confidence = {_toml_float(m.confidence)}")
         lines.append(f"method = {_toml_string(m.method)}")
+        if m.amplitude_damping is not None:  # damping against amplitude (issue 14)
+            lines.append(_comment("damping against amplitude; amplitudes and the drop per cycle are in "
+                                  "the recording's units. Set operating_amplitude_rec to the amplitude "
+                                  "the frame sees in flight and check uses the damping there; without "
+                                  "it, check uses the lowest damping over the measured range."))
+            for key, value in amplitude_entries(m).items():
+                if isinstance(value, bool):
+                    lines.append(f"{key} = {'true' if value else 'false'}")
+                elif isinstance(value, str):
+                    lines.append(f"{key} = {_toml_string(value)}")
+                elif isinstance(value, int):
+                    lines.append(f"{key} = {value}")
+                else:  # already rounded; any magnitude
+                    lines.append(f"{key} = {float(value)!r}")
         lines.append("")
     for o in result.orders:
         lines.append("[[order_strengths]]")
