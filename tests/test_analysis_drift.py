@@ -177,3 +177,10 @@ def test_recordings_out_of_order_are_refused():
 def test_settings_are_checked(kw, field):
     with pytest.raises(InputError, match=field):
         DriftSettings(**kw)
+
+
+def test_label_modes_names_each_build_mode_once():
+    from clashcheck.analysis.drift import label_modes
+
+    modes = [ModeFeatures(175.0, 0.03, "any"), ModeFeatures(178.0, 0.03, "roll"), ModeFeatures(900.0, 0.03, "any")]
+    assert label_modes(modes, REFS) == ["arm flap", None, None]

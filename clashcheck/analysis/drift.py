@@ -66,6 +66,7 @@ __all__ = [
     "DriftResult",
     "drift",
     "student_limit",
+    "label_modes",
     "RULE",
 ]
 
@@ -327,6 +328,29 @@ def _labels(tracks: Sequence[tuple[str, float, int]],
             labels[ti] = reference_modes[ri][0]
             used.add(ri)
     return [lab if lab is not None else f"{ref:.0f} Hz mode" for lab, (_, ref, _) in zip(labels, tracks)]
+
+
+def label_modes(modes: Sequence[ModeFeatures],
+                reference_modes: Sequence[tuple[str, float, str]]) -> list[str | None]:
+    """Name each mode after the nearest reference mode of a compatible axis within 25 %.
+
+    Parameters
+    ----------
+    modes : sequence of ModeFeatures
+        The modes of one recording.
+    reference_modes : sequence of (str, float, str)
+        (name, frequency [Hz], axis) of the build's modes.
+
+    Returns
+    -------
+    list of str or None
+        One name per mode (``None`` when no reference mode is near); each
+        reference name is used once.
+    """
+    tracks = [(m.axis, m.frequency_hz, 0) for m in modes]
+    labels = _labels(tracks, reference_modes)
+    names = {r[0] for r in reference_modes}
+    return [lab if lab in names else None for lab in labels]
 
 
 def _value(m: ModeFeatures | None, feature: str) -> float | None:

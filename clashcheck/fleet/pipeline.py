@@ -18,7 +18,7 @@ from typing import Any
 from dataclasses import dataclass, field
 
 from ..analysis.clash import VERDICTS, check_build
-from ..analysis.drift import DriftResult, DriftSettings, ModeFeatures, Observation, drift
+from ..analysis.drift import DriftResult, DriftSettings, ModeFeatures, Observation, drift, label_modes
 from ..errors import InputError
 from ..inputs.manifest import AircraftEntry, Manifest, RecordingEntry
 from ..model.build import Build, MeasuredModes
@@ -111,11 +111,33 @@ class FleetPlan:
         return store.cached_hash(path, size, mtime)
 
     def unhashed(self, store: Store) -> list[str]:
-        """Recording files not hashed at their current size and mtime, each once."""
+        """Recording files not hashed at their current size and mtime, each once.
+
+        Parameters
+        ----------
+        store : Store
+            The store (its hash cache).
+
+        Returns
+        -------
+        list of str
+            Absolute paths, sorted.
+        """
         return sorted({r.entry.path for r in self.recordings if self.content_of(r.entry.path, store) is None})
 
     def pending(self, store: Store) -> list[Task]:
-        """Tasks for every hashed recording whose (content, settings) is not in the store, each once."""
+        """Tasks for every hashed recording whose (content, settings) is not in the store, each once.
+
+        Parameters
+        ----------
+        store : Store
+            The store.
+
+        Returns
+        -------
+        list of Task
+            One per new (content hash, settings key) pair, in manifest order.
+        """
         known = store.known()
         out: dict[tuple[str, str], Task] = {}
         for r in self.recordings:
@@ -432,10 +454,14 @@ def assess_fleet(manifest: Manifest, store: Store, plan: FleetPlan, run: RunSumm
         verdict = _verdicts(ac.build, result) if result.status == "monitoring" else None
         latest_modes: tuple[tuple[str | None, ModeRecord], ...] = ()
         if records:
-            labels = {}
+            labels: dict[tuple[str, float], str] = {}
             for tr in result.tracks:
                 if tr.latest is not None:
                     labels[(tr.latest.name, tr.latest.frequency_hz)] = tr.label
+            if not result.tracks:  # still building the baseline: name modes after the build's nearest
+                feats = [_features(m) for m in records[-1][1].modes]
+                labels = {(m.name, m.frequency_hz): label for m, label in zip(feats, label_modes(feats, refs))
+                          if label is not None}
             latest_modes = tuple((labels.get((m.name, m.frequency_hz)), m) for m in records[-1][1].modes)
         out.append(AircraftResult(
             id=ac.id, build_path=ac.build_path, build_name=ac.build.name, recordings=len(ac.recordings),

@@ -91,7 +91,7 @@ def _status(ac: AircraftResult) -> str:
 def _mode_line(label: str | None, m: ModeRecord) -> str:
     z = f"ζ {m.damping:.3f}" if m.damping is not None else f"ζ < {m.damping_high:.3f}"
     extra = ""
-    if m.friction_drop_per_cycle is not None:
+    if m.friction_drop_per_cycle:  # a friction figure where the analysis found friction
         extra = f", friction drop {m.friction_drop_per_cycle:.3g}/cycle"
     name = f"{label} ({m.name})" if label else m.name
     return f"    {name}: {m.frequency_hz:.1f} Hz, {m.axis}, {z}{extra}"
