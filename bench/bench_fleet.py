@@ -19,7 +19,11 @@ worker start-up (process spawn, imports) is inside the measured wall time, as
 a user would see it.  The load average is printed: other work on the machine
 shows in every figure.
 
-    python bench/bench_fleet.py [--runs 2] [--recordings 1000]
+    python bench/bench_fleet.py [--runs 2] [--recordings 1000] [--ceiling]
+
+It ends with the machine's own ceiling: 120 of the files analysed in one
+process, then split over 2 plain processes (no fleet code).  Where that is
+not near 2×, no scheduler can do better on the machine at that moment.
 
 Recordings go to bench/_data/fleet/ (gitignored) and are reused.  Bench files
 are not tests and CI does not run them.
@@ -123,6 +127,37 @@ def child(manifest: str, mode: str, store: str) -> None:
     }))
 
 
+def _analyse_files(files: list[str]) -> tuple[float, float]:
+    """Analyse ``files`` in this process: (wall s, CPU s) after one warm-up analysis."""
+    from clashcheck.identify import analyse_tap, open_recording
+    from clashcheck.identify.options import recording_plan
+
+    plan = recording_plan("tap", max_frequency=1000.0)
+    analyse_tap(open_recording(files[0], plan.columns), plan.settings)
+    t, c = time.perf_counter(), time.process_time()
+    for f in files:
+        analyse_tap(open_recording(f, plan.columns), plan.settings)
+    return time.perf_counter() - t, time.process_time() - c
+
+
+def ceiling(n: int = 120) -> None:
+    """What 2 plain processes give on this machine now, without the fleet code (the ceiling)."""
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    files = sorted(str(p) for p in DATA.glob("a*.wav"))[:n]
+    wall, cpu = _analyse_files(files)
+    print(f"ceiling: {n} files in 1 process: {wall:.1f} s (CPU {1e3 * cpu / n:.0f} ms per file)")
+    with ProcessPoolExecutor(2, mp_context=multiprocessing.get_context("spawn")) as ex:
+        ex.submit(time.sleep, 0).result()
+        t0 = time.perf_counter()
+        parts = list(ex.map(_analyse_files, [files[: n // 2], files[n // 2:]]))
+        both = time.perf_counter() - t0
+    print(f"ceiling: {n} files in 2 plain processes: {both:.1f} s ({wall / both:.2f}× one process; "
+          f"CPU {1e3 * sum(c for _, c in parts) / n:.0f} ms per file); load average "
+          f"{' '.join(f'{x:.1f}' for x in os.getloadavg())}")
+
+
 def run_child(manifest: Path, mode: str) -> dict:
     with tempfile.TemporaryDirectory() as tmp:
         out = subprocess.run([sys.executable, __file__, "--child", mode, str(manifest), str(Path(tmp) / "s.sqlite")],
@@ -134,6 +169,8 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--runs", type=int, default=2)
     parser.add_argument("--recordings", type=int, default=1000)
+    parser.add_argument("--ceiling", action="store_true",
+                        help="only measure 2 plain processes against 1 on 120 of the files")
     parser.add_argument("--child", nargs=3, metavar=("MODE", "MANIFEST", "STORE"), help=argparse.SUPPRESS)
     args = parser.parse_args()
     if args.child:
@@ -143,6 +180,9 @@ def main() -> None:
     n = args.recordings
     t0 = time.perf_counter()
     big, small = make_fleet(n), make_fleet(n // 4)
+    if args.ceiling:
+        ceiling()
+        return
     print(f"fleet: {n} tap tests of {RATE_HZ / 1e3:.0f} kHz, ~1.9 s each, made/reused in "
           f"{time.perf_counter() - t0:.1f} s; cpus {os.cpu_count()}; load average before: "
           f"{' '.join(f'{x:.1f}' for x in os.getloadavg())}")
@@ -170,6 +210,7 @@ def main() -> None:
         small_rss = run_child(small, m)["rss_mib"]
         big_rss = max(x["rss_mib"] for x in results[m])
         print(f"  {m:9s} {small_rss:6.0f} MiB vs {big_rss:6.0f} MiB ({big_rss / small_rss:.2f}×)")
+    ceiling()
     print(f"load average after: {' '.join(f'{x:.1f}' for x in os.getloadavg())}")
 
 
