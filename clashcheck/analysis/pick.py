@@ -24,7 +24,8 @@ each candidate's tip mass (:mod:`clashcheck.shift`).
 Ranking (lexicographic, best first):
 
 1. the craft hovers at every pack state checked;
-2. the operating band is clear at every pack state (no clash window touches it);
+2. no clash at any pack state: no significant order within its margin in a dwell zone
+   (the verdict rule of :func:`clashcheck.analysis.windows.window_levels`);
 3. hover lies within the hover range (default 25 % to 50 %) at every pack
    state, which keeps headroom and throttle resolution;
 4. the *peak weighted response*, lower first: the largest order weight × the
@@ -48,18 +49,32 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from ..errors import InputError
+from ..model.build import Build
 from ..model.drive import hover_rotor_hz, rotor_rad_s, throttle_at_rad_s
-from ..model.excitation import build_orders
-from ..model.modes import magnification
+from ..model.excitation import build_orders, fold_in_zone, orders_for, zone_image
 from ..model.motor import Motor
 from ..model.propeller import Propeller
 from ..model.rates import TWO_PI
 from ..model.shift import RAYLEIGH_SHARE, shift_modes, tip_masses
-from .clash import MAX_ALIAS_MULTIPLE, ClashResult, check_build
+from .clash import ClashResult, check_build
+from .windows import (
+    MAX_ALIAS_MULTIPLE,
+    above_floor,
+    interval_margin,
+    margin_band,
+    peak_magnification,
+    rotor_peak,
+    rotor_range_hz,
+    seen_weight,
+    throttle_windows,
+    window_levels,
+)
 
 __all__ = [
     "PIN_NAMES",
     "DEFAULT_HOVER_RANGE",
+    "NOTE_KINDS",
+    "SearchNote",
     "MotorOption",
     "PropOption",
     "SearchSpace",
@@ -88,6 +103,23 @@ _PROP_DIAMETER_SHARE = 0.8
 _MOTOR_MASS_WINDOW = (0.5, 2.0)
 #: Kv of catalog motors matching a pinned Kv, relative [fraction].
 _KV_PIN_TOLERANCE = 0.02
+
+
+#: Kinds of :class:`SearchNote`.
+NOTE_KINDS = ("default-search", "motor-mass-window", "catalog-motors", "kv-sweep", "prop-diameters", "pinned",
+              "mass-held-with-cells", "arm-shift", "arm-not-shifted", "stated-hover-dropped")
+
+
+@dataclass(frozen=True)
+class SearchNote:
+    """One fact about what was searched or assumed (worded by :mod:`clashcheck.report.decide`)."""
+
+    #: One of :data:`NOTE_KINDS`.
+    kind: str
+    #: Figures, SI, keys with unit suffixes (``min_kg``, ``low_hz_per_v``, ``hover`` as a fraction...).
+    figures: dict[str, float] = field(default_factory=dict)
+    #: Names it concerns (pins; ``frame.arm`` when the arm mass comes from there).
+    names: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -130,25 +162,25 @@ class SearchSpace:
     hover_range: tuple[float, float] = DEFAULT_HOVER_RANGE
     #: Mass of one cell [kg], to adjust the all-up mass with the cell count; ``None`` holds it.
     cell_mass_kg: float | None = None
-    #: What was searched and assumed, one sentence each.
-    notes: tuple[str, ...] = ()
+    #: What was searched and assumed.
+    notes: tuple[SearchNote, ...] = ()
 
     def __post_init__(self) -> None:
         for name, axis in (("motors", self.motors), ("props", self.props), ("cells", self.cells)):
             if not axis:
-                raise InputError(f"pick {name}", "at least one candidate (an empty candidate set)", [])
+                raise InputError(name, "at least one candidate (an empty candidate set)", [])
         for n in self.cells:
             if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= 24:
-                raise InputError("pick --cells", "cell counts from 1 to 24", n)
+                raise InputError("cells", "cell counts from 1 to 24", n)
         for p in self.poles:
             if isinstance(p, bool) or not isinstance(p, int) or p < 2 or p % 2:
-                raise InputError("pick --poles", "even pole counts of 2 or more", p)
+                raise InputError("poles", "even pole counts of 2 or more", p)
         low, high = self.hover_range
         if not (0.0 <= low < high <= 1.0):
-            raise InputError("pick --hover-range", "a low hover throttle below the high one, within 0 %–100 %",
+            raise InputError("hover_range", "a low hover throttle below the high one, within 0 %–100 %",
                              f"{100 * low:g} %–{100 * high:g} %")
         if self.cell_mass_kg is not None and not (math.isfinite(self.cell_mass_kg) and self.cell_mass_kg > 0):
-            raise InputError("pick --cell-mass", "a cell mass above 0 g", self.cell_mass_kg)
+            raise InputError("cell_mass_kg", "a cell mass above 0 g", self.cell_mass_kg)
 
     @property
     def shape(self) -> tuple[int, int, int, int]:
@@ -186,7 +218,7 @@ def kv_variant(motor: Motor, kv_hz_per_v: float) -> Motor:
     0.075111
     """
     if not (math.isfinite(kv_hz_per_v) and kv_hz_per_v > 0):
-        raise InputError("pick --kv", "a Kv above 0 rpm/V", kv_hz_per_v)
+        raise InputError("kv_hz_per_v", "a Kv above 0 rpm/V", kv_hz_per_v)
     scale = (motor.kv_hz_per_v / kv_hz_per_v) ** 2
     return replace(motor, kv_hz_per_v=kv_hz_per_v, resistance_ohm=motor.resistance_ohm * scale)
 
@@ -245,7 +277,7 @@ def catalog_props(
 
     if ids:
         for ident in ids:
-            entry("props", ident, "pick --props")  # a clear error with a "did you mean" hint
+            entry("props", ident, "props")  # a clear error with a "did you mean" hint
         chosen = list(dict.fromkeys(ids))
     else:
         chosen = list(load_catalog("props"))
@@ -320,12 +352,12 @@ def search_space(
     pins = tuple(dict.fromkeys(pins))
     for p in pins:
         if p not in PIN_NAMES:
-            raise InputError("pick --pin", "one of " + ", ".join(PIN_NAMES), p)
+            raise InputError("pins", "one of " + ", ".join(PIN_NAMES), p)
     catalog_wanted = motors == "catalog" or bool(stators) or max_motor_mass_kg is not None
     if props is None and max_prop_diameter_m is not None:
         props = "catalog"
     if motors not in (None, "catalog"):
-        raise InputError("pick --motors", "'catalog'", motors)
+        raise InputError("motors", "'catalog'", motors)
     searched = {
         "motor": catalog_wanted or kv_range is not None or bool(poles),
         "kv": catalog_wanted or kv_range is not None,
@@ -335,15 +367,15 @@ def search_space(
     }
     for p in pins:
         if searched[p]:
-            what = {"motor": "motor options (--motors, --stator, --max-motor-mass, --kv-*, --poles)",
-                    "kv": "a Kv search (--motors, --stator, --max-motor-mass, --kv-*)",
-                    "poles": "--poles", "prop": "--props or --max-prop-diameter", "cells": "--cells"}[p]
-            raise InputError("pick --pin", f"a pin on a part that is not also searched ({what})", p,
+            what = {"motor": "motors, stators, max_motor_mass_kg, kv_range or poles",
+                    "kv": "motors, stators, max_motor_mass_kg or kv_range",
+                    "poles": "poles", "prop": "props or max_prop_diameter_m", "cells": "cells"}[p]
+            raise InputError("pins", f"a pin on a part that is not also searched ({what})", p,
                              "contradictory pins: drop the pin or the search option")
     if catalog_wanted and kv_range is not None:
-        raise InputError("pick --kv-from", "either catalog motors or a Kv sweep, not both", "both",
+        raise InputError("kv_range", "either catalog motors or a Kv sweep, not both", "both",
                          "contradictory options")
-    notes: list[str] = []
+    notes: list[SearchNote] = []
     any_search = any(searched.values())
     if not any_search:
         # the default search: catalog motors and fitting catalog props, minus pins
@@ -352,9 +384,9 @@ def search_space(
         if "prop" not in pins:
             props = "catalog"
         if not catalog_wanted and props is None:
-            raise InputError("pick", "something left to search", "every part pinned",
-                             "give --motors, --kv-from/--kv-to, --poles, --props or --cells")
-        notes.append("no search option given: catalog motors and catalog propellers that fit are searched")
+            raise InputError("pins", "something left to search", "every part pinned",
+                             "search motors, a Kv range, poles, props or cells")
+        notes.append(SearchNote("default-search"))
 
     base = MotorOption("build motor", build.motor, "build")
     motor_axis: tuple[MotorOption, ...] = (base,)
@@ -362,10 +394,7 @@ def search_space(
         min_mass = None
         if not stators and max_motor_mass_kg is None and build.motor.mass_kg is not None:
             min_mass, max_motor_mass_kg = (k * build.motor.mass_kg for k in _MOTOR_MASS_WINDOW)
-            notes.append(
-                f"catalog motors from {1e3 * min_mass:.1f} g to {1e3 * max_motor_mass_kg:.1f} g "
-                "(half to twice the build motor's mass; --stator or --max-motor-mass to change)"
-            )
+            notes.append(SearchNote("motor-mass-window", {"min_kg": min_mass, "max_kg": max_motor_mass_kg}))
         motor_axis = catalog_motors(
             stators, max_motor_mass_kg,
             kv_near_hz_per_v=build.motor.kv_hz_per_v if "kv" in pins else None,
@@ -373,47 +402,44 @@ def search_space(
             min_mass_kg=min_mass,
         )
         if not motor_axis:
-            raise InputError("pick motors", "at least one catalog motor after the filters (an empty candidate set)",
-                             "none", "loosen --stator, --max-motor-mass or the pins")
-        notes.append(f"{len(motor_axis)} catalog motor(s)")
+            raise InputError("motors", "at least one catalog motor after the filters (an empty candidate set)",
+                             "none", "loosen the stator, motor-mass or pin filters")
+        notes.append(SearchNote("catalog-motors", {"count": float(len(motor_axis))}))
     elif kv_range is not None:
         low, high, step = kv_range
         if not (math.isfinite(low) and math.isfinite(high) and math.isfinite(step)) or step <= 0 or low <= 0:
-            raise InputError("pick --kv-step", "a Kv range above 0 rpm/V with a step above 0", kv_range)
+            raise InputError("kv_range", "a Kv range above 0 rpm/V with a step above 0", kv_range)
         if high < low:
-            raise InputError("pick --kv-to", "a Kv at or above --kv-from (an empty candidate set)",
+            raise InputError("kv_range", "a high Kv at or above the low one (an empty candidate set)",
                              f"{60 * high:g} rpm/V < {60 * low:g} rpm/V")
         count = int(math.floor((high - low) / step * (1 + 1e-12))) + 1
         if count > 1_000_000:
-            raise InputError("pick --kv-step", "at most 1000000 Kv values", count)
+            raise InputError("kv_range", "at most 1000000 Kv values", count)
         kvs = low + step * np.arange(count)
         motor_axis = tuple(MotorOption(f"Kv {60 * kv:.0f} rpm/V", kv_variant(build.motor, float(kv)), "kv sweep")
                            for kv in kvs)
-        notes.append(
-            f"Kv swept from {60 * low:g} to {60 * kvs[-1]:g} rpm/V in steps of {60 * step:g} on the build's motor: "
-            "winding resistance scaled as (Kv₀/Kv)², no-load current and mass held"
-        )
+        notes.append(SearchNote("kv-sweep", {"low_hz_per_v": float(low), "high_hz_per_v": float(kvs[-1]),
+                                             "step_hz_per_v": float(step)}))
     prop_axis: tuple[PropOption, ...] = (PropOption("build prop", build.prop, "build"),)
     if props is not None:
         top = max_prop_diameter_m if max_prop_diameter_m is not None else build.prop.diameter_m
         if props == "catalog":
             prop_axis = catalog_props(None, _PROP_DIAMETER_SHARE * build.prop.diameter_m, top)
-            notes.append(
-                f"catalog propellers from {_PROP_DIAMETER_SHARE * build.prop.diameter_m / 0.0254:.2f} in "
-                f"to {top / 0.0254:.2f} in"
-            )
+            notes.append(SearchNote("prop-diameters", {"min_m": _PROP_DIAMETER_SHARE * build.prop.diameter_m,
+                                                       "max_m": float(top)}))
         else:
             prop_axis = catalog_props(list(props), None, max_prop_diameter_m)
         if not prop_axis:
-            raise InputError("pick props", "at least one propeller that fits (an empty candidate set)", "none",
-                             "raise --max-prop-diameter or name props with --props")
+            raise InputError("props", "at least one propeller that fits (an empty candidate set)", "none",
+                             "raise the largest diameter or name the props")
     cell_axis = tuple(int(c) for c in dict.fromkeys(cells)) if cells else (build.pack.cells,)
     pole_axis = tuple(int(p) for p in dict.fromkeys(poles))
     if pins:
-        notes.append("pinned: " + ", ".join(pins))
+        notes.append(SearchNote("pinned", names=tuple(pins)))
     if cells and cell_mass_kg is None:
-        notes.append("the all-up mass is held when the cell count changes (no --cell-mass given)")
-    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, tuple(hover_range), cell_mass_kg, tuple(notes))
+        notes.append(SearchNote("mass-held-with-cells"))
+    low_high = (float(hover_range[0]), float(hover_range[1]))
+    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, low_high, cell_mass_kg, tuple(notes))
 
 
 # ---------------------------------------------------------------------------
@@ -472,7 +498,7 @@ class Scores:
 
     #: Hovers at every pack state (or hover unknown, band from idle).
     flies: np.ndarray
-    #: No clash window touches the operating band at any pack state.
+    #: No clash-level window (a significant order in a dwell zone) at any pack state.
     band_clear: np.ndarray
     #: Hover within the hover range at every pack state.
     hover_in_range: np.ndarray
@@ -483,7 +509,7 @@ class Scores:
     worst_margin: np.ndarray
     #: Hover throttle per pack state [fraction] (candidates × states; ``nan`` unknown, > 1 unreachable).
     hover_throttle: np.ndarray
-    #: Number of clash windows touching the operating band (direct and aliased).
+    #: Number of clash-level windows (significant, in a dwell zone; direct and aliased).
     clash_count: np.ndarray
     #: All-up mass [kg].
     mass_kg: np.ndarray
@@ -525,30 +551,14 @@ class _Axes:
         self.combo = self.combo.reshape(-1)
         rows = []
         for poles, slots, blades in combos:
-            rows.append(build_orders(Motor(30.0, int(poles), int(slots)), Propeller(0.1, int(blades)),
-                                     build.check.families, build.check.custom_orders,
-                                     build.check.order_strengths))
+            rows.append(orders_for(int(blades), int(poles), int(slots), build.check.families,
+                                   build.check.custom_orders, build.check.order_strengths))
         self.order_rows = rows
-        self.order_numbers = np.array([[o.order for o in r] for r in rows])
-        self.order_weights = np.array([[o.weight for o in r] for r in rows])
-
-
-def _peak_magnification(x_lo, x_hi, f_lo, f_hi, zeta):
-    """Largest M(f/f_m) for f in [x_lo, x_hi] and f_m in [f_lo, f_hi].
-
-    M(r) rises to its peak at r_p = √(1 − 2ζ²) and falls after it (one
-    maximum), so the largest value over an interval of r sits at the point of
-    the interval nearest r_p.
-    """
-    r_p = np.sqrt(np.maximum(1.0 - 2.0 * zeta**2, 0.0))
-    r_star = np.clip(r_p, x_lo / f_hi, x_hi / f_lo)
-    return magnification(r_star, zeta)
-
-
-def _interval_margin(x_lo, x_hi, f_lo, f_hi):
-    """Smallest relative margin of [x_lo, x_hi] from a mode range [f_lo, f_hi]
-    (:func:`clashcheck.modes.relative_margin` over an interval)."""
-    return np.maximum(np.maximum((f_lo - x_hi) / f_lo, (x_lo - f_hi) / f_hi), 0.0)
+        # rows differ in length where two families give one order (2-blade props): pad, with a mask
+        width = max(len(r) for r in rows)
+        self.order_numbers = np.array([[o.order for o in r] + [1.0] * (width - len(r)) for r in rows])
+        self.order_weights = np.array([[o.weight for o in r] + [0.0] * (width - len(r)) for r in rows])
+        self.order_present = np.array([[True] * len(r) + [False] * (width - len(r)) for r in rows])
 
 
 def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Scores:
@@ -575,7 +585,6 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
     rho = build.density_kg_m3()
     volts = np.array([build.pack.chemistry.cell_voltage(s) for s in states])
     modes = build.modes
-    f_nom0 = np.array([m.frequency_hz for m in modes])
     f_lo0 = np.array([m.frequency_low_hz for m in modes])
     f_hi0 = np.array([m.frequency_high_hz for m in modes])
     zeta_known = np.array([m.damping is not None for m in modes])
@@ -604,6 +613,7 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
     stated = fl.hover
     sensor = build.sensor
     floor = build.check.weight_floor
+    sig_floor = build.check.significance_floor
     out = {k: np.empty(n, dtype=dt) for k, dt in (
         ("flies", bool), ("band_clear", bool), ("in_range", bool), ("response", float),
         ("worst_margin", float), ("clash_count", np.int64))}
@@ -651,23 +661,28 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         f_hi = f_hi0[None, :] * rat
         zeta = np.where(zeta_known[None, :], zeta0[None, :] * rat, zeta0[None, :])
         sm = policy.margin_for_damping(zeta)
-        band_f_lo = f_lo * (1.0 - sm)
-        band_f_hi = f_hi * (1.0 + sm)
+        band_f_lo, band_f_hi = margin_band(f_lo, f_hi, sm)
         order = ax.order_numbers[ax.combo[sl]]          # (c, K)
         weight = ax.order_weights[ax.combo[sl]]
+        present = ax.order_present[ax.combo[sl]]        # (c, K): False where a row is padded
+        p4 = present[:, None, None, :]
         o4 = order[:, None, None, :]
-        bl4 = band_lo[:, :, None, None]
-        bh4 = band_hi[:, :, None, None]
         fly4 = flies_s[:, :, None, None]
 
-        # direct windows, as clash.find_windows: band edges → throttle, clipped to [idle, max]
-        d_a = throttle_at_rad_s((band_f_lo[:, None, :, None] / o4) * TWO_PI, v, **drive)
-        d_b = throttle_at_rad_s((band_f_hi[:, None, :, None] / o4) * TWO_PI, v, **drive)
-        low = np.maximum(d_a, fl.idle)
-        high = np.minimum(d_b, fl.max)
-        ok = (band_f_hi > band_f_lo)[:, None, :, None]
-        touch = ok & (low < high) & fly4 & (low <= bh4) & (bl4 <= high)
-        clash_count = touch.sum(axis=(1, 2, 3))
+        # dwell zones per (candidate, state), as clash.operating_bands: (c, S, Z)
+        zone_lo, zone_hi = _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi, v, drive)
+        peak = rotor_peak(v, drive, fl.max)                           # (c, S, 1, 1) each
+
+        # direct windows, as clash.find_windows: band edges → throttle on both sides of any
+        # rotor-rate peak, clipped to [idle, max]; a clash is a significant window in a dwell zone
+        ok = p4 & fly4 & (band_f_hi > band_f_lo)[:, None, :, None]
+        clash_count = np.zeros(c, dtype=np.int64)
+        for low, high in _pairs(throttle_windows(band_f_lo[:, None, :, None], band_f_hi[:, None, :, None], o4,
+                                                 v, fl.idle, fl.max, drive)):
+            clash_count += _clash_count(ok & (low < high), low, high, o4, v, drive, peak,
+                                        zone_lo[:, :, None, None, :], zone_hi[:, :, None, None, :],
+                                        weight[:, None, None, :], f_lo[:, None, :, None], f_hi[:, None, :, None],
+                                        zeta[:, None, :, None], sig_floor, c)
 
         # excitation over the operating band (true frequency) and its peak response
         rotor_lo = rotor_rad_s(band_lo[:, :, None, None], v, **drive) / TWO_PI
@@ -676,11 +691,11 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         x_hi = (o4 * rotor_hi)[:, :, 0, :]
         fl4, fh4, z4 = f_lo[:, None, :, None], f_hi[:, None, :, None], zeta[:, None, :, None]
         with np.errstate(invalid="ignore"):
-            resp = weight[:, None, None, :] * _peak_magnification(
+            resp = weight[:, None, None, :] * peak_magnification(
                 x_lo[:, :, None, :], x_hi[:, :, None, :], fl4, fh4, z4)
-            marg = _interval_margin(x_lo[:, :, None, :], x_hi[:, :, None, :], fl4, fh4)
-        resp = np.where(fly4, resp, -np.inf)
-        marg = np.where(fly4, marg, np.inf)
+            marg = interval_margin(x_lo[:, :, None, :], x_hi[:, :, None, :], fl4, fh4)
+        resp = np.where(fly4 & p4, resp, -np.inf)
+        marg = np.where(fly4 & p4, marg, np.inf)
         flat_r = resp.reshape(c, -1)
         flat_m = marg.reshape(c, -1)
         best_r = np.argmax(flat_r, axis=1)
@@ -693,9 +708,10 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         m_at = np.concatenate([s_m_k, np.zeros((c, 1), dtype=np.int64)], axis=1)
 
         if sensor is not None:
-            top_rotor = rotor_rad_s(fl.max, v, **drive)[:, :, 0, 0] / TWO_PI       # (c, S)
-            alias = _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_hi,
-                             flies_s, band_f_lo, band_f_hi, f_lo, f_hi, zeta, v, drive, fl)
+            top_rotor = rotor_range_hz(fl.idle, fl.max, v, drive, peak)[1][:, :, 0, 0]   # (c, S)
+            alias = _aliased(sensor, floor, order, weight, present, top_rotor, x_lo, x_hi, band_lo, band_hi,
+                             flies_s, band_f_lo, band_f_hi, f_lo, f_hi, zeta, v, drive, fl,
+                             (zone_lo, zone_hi, peak, sig_floor))
             clash_count = clash_count + alias["touch_count"]
             better = alias["response"] > response
             response = np.where(better, alias["response"], response)
@@ -722,8 +738,72 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
     )
 
 
-def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_hi, flies_s,
-             band_f_lo, band_f_hi, f_lo, f_hi, zeta, v, drive, fl):
+def _clash_count(mask, low, high, order, v, drive, peak, zone_lo, zone_hi, weight, f_lo, f_hi, zeta, sig_floor,
+                 n_candidates):
+    """Clash-level windows per candidate, by :func:`~clashcheck.analysis.windows.window_levels` on the
+    windows that exist only (``mask``, candidate axis first); the other arguments broadcast with ``low``."""
+    idx = np.nonzero(mask)
+    if idx[0].size == 0:
+        return np.zeros(n_candidates, dtype=np.int64)
+    shape = mask.shape
+
+    def pick_out(x):
+        return np.broadcast_to(np.asarray(x, dtype=float), shape)[idx] if np.ndim(x) else x
+
+    zshape = shape + (np.shape(zone_lo)[-1],)
+    rule = window_levels(pick_out(low), pick_out(high), pick_out(order), pick_out(v),
+                         {k: pick_out(x) for k, x in drive.items()}, (pick_out(peak[0]), pick_out(peak[1])),
+                         np.broadcast_to(zone_lo, zshape)[idx], np.broadcast_to(zone_hi, zshape)[idx],
+                         pick_out(weight), pick_out(f_lo), pick_out(f_hi), pick_out(zeta), sig_floor)
+    return np.bincount(idx[0][rule["level"] == 2], minlength=n_candidates).astype(np.int64)
+
+
+def _pairs(windows):
+    """The (low, high) pairs of :func:`~clashcheck.analysis.windows.throttle_windows`: rising, falling."""
+    rise_lo, rise_hi, fall_lo, fall_hi = windows
+    return ((rise_lo, rise_hi), (fall_lo, fall_hi))
+
+
+def _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi, v, drive):
+    """Dwell zones per (candidate, state) as :func:`clashcheck.analysis.clash.operating_bands` sets them.
+
+    Returns (zone_lo, zone_hi), each (c, S, Z); an unused slot has low > high.
+    """
+    c, n_states = d_hover.shape
+    flies = ~np.isnan(band_lo)
+    if fl.occupancy is not None and fl.occupancy.quantity == "rotor_hz":
+        zones = np.array(fl.occupancy.dwell_zones(), dtype=float)                    # (Z, 2) [Hz]
+        v_z = v[:, :, 0, 0][:, :, None]
+        d_x = {k: (np.asarray(x)[:, 0, 0, 0][:, None, None] if np.ndim(x) else x) for k, x in drive.items()}
+        with np.errstate(invalid="ignore"):
+            lo_d = throttle_at_rad_s(zones[:, 0] * TWO_PI, v_z, **d_x)
+            hi_d = throttle_at_rad_s(zones[:, 1] * TWO_PI, v_z, **d_x)
+        zone_lo = np.maximum(fl.idle, np.minimum(lo_d, fl.max))
+        zone_hi = np.minimum(fl.max, hi_d)
+    elif fl.occupancy is not None:
+        zones = fl.occupancy.dwell_zones()
+        lo = np.array([max(fl.idle, a) for a, _b in zones])
+        hi = np.array([min(fl.max, b) for _a, b in zones])
+        zone_lo = np.broadcast_to(lo, (c, n_states, lo.size)).copy()
+        zone_hi = np.broadcast_to(hi, (c, n_states, hi.size)).copy()
+    else:
+        known = np.broadcast_to(known_hover, (c, n_states))
+        with np.errstate(invalid="ignore"):
+            hover_lo = np.where(known, np.maximum(fl.idle, d_hover - fl.dwell_spread), band_lo)
+            hover_hi = np.where(known, np.minimum(fl.max, d_hover + fl.dwell_spread), band_hi)
+        slots_lo, slots_hi = [hover_lo], [hover_hi]
+        if fl.cruise_dwell:
+            slots_lo.append(np.full((c, n_states), max(fl.idle, fl.cruise - fl.dwell_spread)))
+            slots_hi.append(np.full((c, n_states), min(fl.max, fl.cruise + fl.dwell_spread)))
+        zone_lo, zone_hi = np.stack(slots_lo, axis=-1), np.stack(slots_hi, axis=-1)
+    empty = ~(flies & (~np.broadcast_to(known_hover, (c, n_states)) | can))[:, :, None]
+    zone_lo = np.where(empty | np.isnan(zone_lo), 1.0, zone_lo)
+    zone_hi = np.where(empty | np.isnan(zone_hi), 0.0, zone_hi)
+    return zone_lo, zone_hi
+
+
+def _aliased(sensor, floor, order, weight, present, top_rotor, x_lo, x_hi, band_lo, band_hi, flies_s,
+             band_f_lo, band_f_hi, f_lo, f_hi, zeta, v, drive, fl, dwell):
     """Aliased clash windows touching the band, and the aliased response, for one block.
 
     Works on the sparse set of (candidate, state, order, Nyquist zone) pieces
@@ -734,14 +814,26 @@ def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_
     """
     fs = sensor.sample_rate_hz
     nyq = sensor.nyquist_hz
+    zone_lo, zone_hi, peak, sig_floor = dwell
     c, n_states, n_orders = x_lo.shape
-    n_modes = f_lo.shape[1]
+    # excitation over the dwell zones (with the peak rate where a zone holds it), for reach
+    used = zone_lo <= zone_hi
+    z_a = np.min(np.where(used, zone_lo, np.inf), axis=-1)
+    z_b = np.max(np.where(used, zone_hi, -np.inf), axis=-1)
+    any_zone = np.isfinite(z_a)
+    with np.errstate(invalid="ignore"):
+        r_a, r_b = rotor_range_hz(np.where(any_zone, z_a, fl.idle)[:, :, None, None],
+                                  np.where(any_zone, z_b, fl.idle)[:, :, None, None], v, drive, peak)
+    dw_lo = np.where(any_zone[:, :, None], order[:, None, :] * r_a[:, :, 0, :], np.inf)      # (c, S, K)
+    dw_hi = np.where(any_zone[:, :, None], order[:, None, :] * r_b[:, :, 0, :], -np.inf)
+    x_lo_r = np.fmin(np.where(np.isfinite(x_lo), x_lo, np.inf), dw_lo)
+    x_hi_r = np.fmax(np.where(np.isfinite(x_hi), x_hi, -np.inf), dw_hi)
     touch_count = np.zeros(c, dtype=np.int64)
     response = np.full(c, -np.inf)
     response_at = np.zeros((c, 4), dtype=np.int64)
     margin = np.full(c, np.inf)
     margin_at = np.zeros((c, 4), dtype=np.int64)
-    finite_hi = np.where(np.isfinite(x_hi), x_hi, 0.0)
+    finite_hi = np.where(np.isfinite(x_hi_r), x_hi_r, 0.0)
     top_zone = int(np.floor(np.max(finite_hi, initial=0.0) / nyq))
     max_hz = np.minimum(order[:, None, :] * top_rotor[:, :, None], MAX_ALIAS_MULTIPLE * fs)   # (c, S, K)
     lo_app = np.maximum(band_f_lo, 0.0)                                                          # (c, M)
@@ -750,45 +842,39 @@ def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_
     eps = 1e-9
     for zone in range(1, top_zone + 1):
         edge_lo, edge_hi = zone * nyq, (zone + 1) * nyq
-        reach = fly3 & (x_hi >= edge_lo * (1 - eps)) & (x_lo <= edge_hi * (1 + eps))
-        reach &= weight[:, None, :] * sensor.gain(edge_lo) >= floor * (1 - eps)
+        reach = fly3 & present[:, None, :] & (x_hi_r >= edge_lo * (1 - eps)) & (x_lo_r <= edge_hi * (1 + eps))
+        reach &= above_floor(seen_weight(weight[:, None, :], sensor.gain(edge_lo)), floor * (1 - eps))
         ci, si, ki = np.nonzero(reach)
         if ci.size == 0:
             continue
-        m_img = (zone + 1) // 2
         n_o = order[ci, ki][:, None]                                  # (P, 1)
-        if zone % 2:
-            img_a, img_b = m_img * fs - hi_app[ci], m_img * fs - lo_app[ci]   # (P, M)
-        else:
-            img_a, img_b = m_img * fs + lo_app[ci], m_img * fs + hi_app[ci]
+        img_a, img_b = zone_image(lo_app[ci], hi_app[ci], zone, fs)    # (P, M)
         pd = {k: (val.reshape(-1)[ci][:, None] if np.ndim(val) else val) for k, val in drive.items()}
         vv = v[ci, si, 0, 0][:, None]
-        d_a = throttle_at_rad_s((img_a / n_o) * TWO_PI, vv, **pd)
-        d_b = throttle_at_rad_s((img_b / n_o) * TWO_PI, vv, **pd)
-        low = np.maximum(d_a, fl.idle)
-        high = np.minimum(d_b, fl.max)
-        w_img = weight[ci, ki][:, None] * sensor.gain(0.5 * (img_a + img_b))
+        w_img = seen_weight(weight[ci, ki][:, None], sensor.gain(0.5 * (img_a + img_b)))
         valid = (lo_app[ci] <= hi_app[ci]) & (band_f_hi[ci] > band_f_lo[ci])
         valid &= img_a <= max_hz[ci, si, ki][:, None]
-        valid &= w_img >= floor
-        bl, bh = band_lo[ci, si][:, None], band_hi[ci, si][:, None]
-        touch = valid & (low < high) & (low <= bh) & (bl <= high)
-        np.add.at(touch_count, ci, touch.sum(axis=1))
+        valid &= above_floor(w_img, floor)
+        pk = (peak[0][ci, si, 0, 0][:, None], peak[1][ci, si, 0, 0][:, None])
+        for low, high in _pairs(throttle_windows(img_a, img_b, n_o, vv, fl.idle, fl.max, pd)):
+            rule = window_levels(low, high, n_o, vv, pd, pk, zone_lo[ci, si][:, None, :], zone_hi[ci, si][:, None, :],
+                                 w_img, f_lo[ci], f_hi[ci], zeta[ci], sig_floor, zone, fs)
+            np.add.at(touch_count, ci, (valid & (rule["level"] == 2)).sum(axis=1))
 
         # aliased response: the band's piece in this zone, as the sensor sees it
         t_lo = np.maximum(x_lo[ci, si, ki], edge_lo)
         t_hi = np.minimum(x_hi[ci, si, ki], edge_hi)
         inside = t_lo <= t_hi
-        w_piece = weight[ci, ki] * sensor.gain(t_lo)
-        keep = inside & (w_piece >= floor)
+        w_piece = seen_weight(weight[ci, ki], sensor.gain(t_lo))
+        keep = inside & above_floor(w_piece, floor)
         if not np.any(keep):
             continue
-        a_lo = np.asarray(_fold_in_zone(t_lo, zone, fs))
-        a_hi = np.asarray(_fold_in_zone(t_hi, zone, fs))
+        a_lo = np.asarray(fold_in_zone(t_lo, zone, fs))
+        a_hi = np.asarray(fold_in_zone(t_hi, zone, fs))
         app_lo, app_hi = np.minimum(a_lo, a_hi)[:, None], np.maximum(a_lo, a_hi)[:, None]
         with np.errstate(invalid="ignore"):
-            val = w_piece[:, None] * _peak_magnification(app_lo, app_hi, f_lo[ci], f_hi[ci], zeta[ci])
-            mar = _interval_margin(app_lo, app_hi, f_lo[ci], f_hi[ci])
+            val = w_piece[:, None] * peak_magnification(app_lo, app_hi, f_lo[ci], f_hi[ci], zeta[ci])
+            mar = interval_margin(app_lo, app_hi, f_lo[ci], f_hi[ci])
         val = np.where(keep[:, None], val, -np.inf)
         mar = np.where(keep[:, None], mar, np.inf)
         best_mode = np.argmax(val, axis=1)
@@ -800,13 +886,6 @@ def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_
                      negate=True)
     return {"touch_count": touch_count, "response": response, "response_at": response_at,
             "margin": margin, "margin_at": margin_at}
-
-
-def _fold_in_zone(freq_hz, zone: int, fs: float):
-    """Apparent frequency in a known Nyquist zone (linear there): the fold of
-    :func:`clashcheck.excitation.fold`, without its rounding at zone edges."""
-    m = (zone + 1) // 2
-    return m * fs - freq_hz if zone % 2 else freq_hz - m * fs
 
 
 def _scatter_max(target, where, index, values, info, negate: bool = False):
@@ -848,7 +927,7 @@ class Pick:
     #: Short label of its parts.
     label: str
     #: The candidate as a build (modes shifted, mass adjusted).
-    build: object
+    build: Build
     #: The full check of that build.
     result: ClashResult
     #: Hovers at every pack state.
@@ -873,8 +952,6 @@ class Pick:
     hover: dict[str, float]
     #: Clash windows touching the band.
     clash_count: int
-    #: Reasons for the place in the ranking, one phrase each.
-    reasons: tuple[str, ...]
 
 
 @dataclass(frozen=True)
@@ -885,7 +962,7 @@ class PickResult:
     name: str
     #: Candidates scored.
     searched: int
-    #: How many keep the band clear at every pack state (and fly).
+    #: How many have no clash window at any pack state (and fly): the check's ``clash`` rule.
     clear_count: int
     #: The best candidates, best first.
     top: tuple[Pick, ...]
@@ -895,8 +972,15 @@ class PickResult:
     space: SearchSpace
     #: The scores of every candidate.
     scores: Scores = field(repr=False)
-    #: Notes, one sentence each.
-    notes: tuple[str, ...] = ()
+    #: What was searched and assumed.
+    notes: tuple[SearchNote, ...] = ()
+    #: Labels of top candidates whose full check disagrees with the vectorised "band clear" flag.
+    disagreements: tuple[str, ...] = ()
+
+    @property
+    def best(self) -> Pick | None:
+        """The top-ranked candidate, or ``None`` when nothing was returned."""
+        return self.top[0] if self.top else None
 
 
 def _describe(build, space, scores, index):
@@ -907,31 +991,6 @@ def _describe(build, space, scores, index):
     s2, m2, k2, _z2 = (int(x) for x in scores.margin_at[index])
     return label, (build.modes[m].name, orders[k].label, scores.pack_states[s], z > 0), (
         build.modes[m2].name, orders[k2].label, scores.pack_states[s2])
-
-
-def _reasons(p: dict, hover_range) -> tuple[str, ...]:
-    out = []
-    if not p["flies"]:
-        states = [s for s, h in p["hover"].items() if not (math.isfinite(h) and h <= 1.0)]
-        out.append("cannot hover at the " + ", ".join(states) + " pack")
-    elif p["band_clear"]:
-        out.append("operating band clear at every pack state")
-    else:
-        out.append(f"{p['clash_count']} clash window(s) touch the operating band")
-    known = [h for h in p["hover"].values() if math.isfinite(h)]
-    if known:
-        span = f"{100 * min(known):.0f}–{100 * max(known):.0f} %"
-        inside = "within" if p["hover_in_range"] else "outside"
-        out.append(f"hover {span}, {inside} {100 * hover_range[0]:.0f}–{100 * hover_range[1]:.0f} %")
-    else:
-        out.append("hover unknown (no C_T): band taken from idle")
-    if math.isfinite(p["response"]):
-        out.append(
-            f"peak weighted response {p['response']:.2f} ({p['response_order']}"
-            f"{' aliased' if p['response_aliased'] else ''} near {p['response_mode']}, {p['response_state']} pack)"
-        )
-        out.append(f"worst margin {100 * p['worst_margin']:.1f} % ({p['margin_order']} to {p['margin_mode']})")
-    return tuple(out)
 
 
 def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
@@ -949,16 +1008,17 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
     Returns
     -------
     PickResult
-        The top candidates, each with a full :func:`~clashcheck.clash.check_build`
-        of it.  A note is added should the full check ever disagree with the
+        The top candidates, each with a full :func:`~clashcheck.analysis.clash.check_build`
+        of it; ``disagreements`` names any whose full check disagrees with the
         vectorised "band clear" flag.
     """
     if isinstance(top, bool) or not isinstance(top, int) or not 1 <= top <= 100:
-        raise InputError("pick --top", "a whole number from 1 to 100", top)
+        raise InputError("top", "a whole number from 1 to 100", top)
     scores = score_candidates(build, space)
     order = rank(scores)
     picks = []
-    notes = list(space.notes)
+    disagree: list[str] = []
+    notes: list[SearchNote] = list(space.notes)
     for place, index in enumerate(order[:top], start=1):
         index = int(index)
         cand = candidate_build(build, space, index)
@@ -977,25 +1037,18 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
             "hover": hover,
             "clash_count": int(scores.clash_count[index]),
         }
-        if (result.verdict == "clash") == bool(scores.band_clear[index]):
-            notes.append(f"candidate {label}: the full check ({result.verdict}) disagrees with the search")
-        picks.append(Pick(rank=place, index=index, label=label, build=cand, result=result,
-                          reasons=_reasons(fields, space.hover_range), **fields))
+        if (result.verdict == "clash") == fields["band_clear"]:
+            disagree.append(label)
+        picks.append(Pick(rank=place, index=index, label=label, build=cand, result=result, **fields))
     if any(m.kind == "arm" for m in build.modes):
         ratio = scores.mode_ratio
         if np.any(ratio != 1.0):
-            notes.append(
-                f"arm modes move with each candidate's tip mass (×{np.min(ratio):.3f} to ×{np.max(ratio):.3f}); "
-                + ("arm mass from [frame.arm]" if build.arm is not None else
-                   "no [frame.arm]: m_eff = tip mass (motor + propeller)")
-            )
+            notes.append(SearchNote("arm-shift", {"min_ratio": float(np.min(ratio)), "max_ratio": float(np.max(ratio))},
+                                    ("frame.arm",) if build.arm is not None else ()))
         elif build.motor.mass_kg is None or build.prop.mass_kg is None:
-            notes.append("arm modes not shifted: the build's motor or propeller mass is not known")
+            notes.append(SearchNote("arm-not-shifted"))
     if build.flight.hover is not None:
-        notes.append(
-            f"the stated hover ({100 * build.flight.hover:.0f} %) belongs to the build's own parts: candidates "
-            "whose propeller has a C_T get a computed hover instead"
-        )
+        notes.append(SearchNote("stated-hover-dropped", {"hover": build.flight.hover}))
     clear = int(np.sum(scores.band_clear & scores.flies))
     return PickResult(build.name, space.size, clear, tuple(picks), space.hover_range, space, scores,
-                      tuple(notes))
+                      tuple(notes), tuple(disagree))

@@ -3,10 +3,14 @@
 from __future__ import annotations
 
 import sys
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING
 
 import click
+
+if TYPE_CHECKING:
+    from ..identify import ModesResult
 
 from ._common import (
     PATH,
@@ -45,9 +49,11 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--resolution", type=Quantity("Hz", "1 Hz"), help="Frequency resolution of the spectra.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @click.option("--output", "-o", type=PATH, help="Also write the modes as a build fragment (TOML).")
+@click.option("--include-candidates", is_flag=True,
+              help="Write peaks below the confidence floor into the modes file too.")
 @click.option("--quiet", "-q", is_flag=True, help="No progress bar.")
 def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str | None, fmt: str,
-                  output: Path | None, quiet: bool, **opts) -> None:
+                  output: Path | None, quiet: bool, include_candidates: bool, **opts) -> None:
     """Find frame modes (frequency, damping, axis) in a tap test or flight recording.
 
     Tap tests are done with the propellers removed. Results are design advice.
@@ -67,8 +73,17 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
         build = load_build(build_file)
     plan = recording_plan(kind, build=build, axes=axes, **opts)
     rec = open_recording(recording, plan.columns)
-    analyse: Any = analyse_tap if kind == "tap" else analyse_flight
-    settings = plan.settings
+    run: Callable[[Callable[[int, int], None]], ModesResult]
+    if kind == "tap":
+        tap_settings = plan.settings
+
+        def run(tick: Callable[[int, int], None]) -> ModesResult:
+            return analyse_tap(rec, tap_settings, progress=tick)  # type: ignore[arg-type]
+    else:
+        flight_settings = plan.settings
+
+        def run(tick: Callable[[int, int], None]) -> ModesResult:
+            return analyse_flight(rec, flight_settings, progress=tick)  # type: ignore[arg-type]
     with _modes_progress(quiet, rec.rows_estimate, len(rec.signal_names)) as bar:
         last = [0]
 
@@ -77,14 +92,26 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
                 bar.update(max(0, min(done, total) - last[0]))
                 last[0] = max(last[0], min(done, total))
 
-        result = analyse(rec, settings, progress=tick)
+        result = run(tick)
     if output is not None:
-        emit(render_toml(result), output, [recording] + ([build_file] if build_file else []))
+        emit(render_toml(result, include_candidates=include_candidates), output,
+             [recording] + ([build_file] if build_file else []))
     click.echo(render_json(result) if fmt == "json" else render_table(result), nl=False)
 
 
-#: Library fields of the recording options and the flag that sets each.
-FIELD_FLAGS = {"poles": "--poles", "time_unit": "--time-unit", "rpm_unit": "--rpm-unit"}
+#: Library fields of the recording options and analysis settings, and the flag that sets each.
+FIELD_FLAGS = {
+    "time_unit": "--time-unit",
+    "rpm_unit": "--rpm-unit",
+    "min_frequency_hz": "--min-frequency",
+    "max_frequency_hz": "--max-frequency",
+    "resolution_hz": "--resolution",
+    "axes": "--axes",
+    "blades": "--blades",
+    "poles": "--poles",
+    "slots": "--slots",
+    "rpm_columns": "--rpm-columns",
+}
 
 #: The commands this module adds to the group.
 COMMANDS = (modes_command,)
