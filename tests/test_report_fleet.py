@@ -37,16 +37,17 @@ def test_verdict_sentence():
 
 
 def test_a_mode_moving_into_the_operating_band_makes_the_verdict_worse(base_build):
-    """Behaviour check with the shared test build: its arm flap alone at 165 Hz gives 'watch' and at
-    185 Hz 'clash' (found by running check on it), so a mode that stiffens from 165 to 185 Hz worsens it."""
+    """Behaviour check with the shared test build: its arm flap alone at 285 Hz gives 'watch' and at
+    255 Hz 'clash' (found by running check on it), so a stiffness loss from 285 to 255 Hz worsens it."""
     from clashcheck.inputs.buildfile import parse_build
 
     raw = copy.deepcopy(base_build)
     raw["frame"]["modes"] = raw["frame"]["modes"][:1]
+    raw["frame"]["modes"][0]["frequency"] = "285 Hz"
     build = parse_build(raw)
     obs = [Observation(f"r{i}", DAY + dt.timedelta(days=i),
-                       (ModeFeatures(165.0 * (1 + 0.002 * (-1) ** i), 0.03, "roll"),)) for i in range(8)]
-    obs.append(Observation("late", DAY + dt.timedelta(days=9), (ModeFeatures(185.0, 0.03, "roll"),)))
+                       (ModeFeatures(285.0 * (1 + 0.002 * (-1) ** i), 0.03, "roll"),)) for i in range(8)]
+    obs.append(Observation("late", DAY + dt.timedelta(days=9), (ModeFeatures(255.0, 0.03, "roll"),)))
     result = drift(obs, reference_modes=[(m.name, m.frequency_hz, m.axis) for m in build.modes])
     assert result.tracks[0].label == "arm flap"
     v = _verdicts(build, result)
