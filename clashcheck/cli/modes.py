@@ -20,26 +20,6 @@ from ._common import (
 )
 
 
-def _modes_columns(signal, time_column, time_unit, rate, throttle_column, rpm_columns, rpm_unit, poles,
-                   throttle_unit=None):
-    """The reader's column plan from the command-line options."""
-    from ..errors import InputError
-    from ..identify import Columns
-    from ..inputs.units import parse
-
-    time_scale = parse(f"1 {time_unit}", "s", "--time-unit", example="1 ms")
-    rpm_scale = {"rpm": 1.0 / 60.0, "Hz": 1.0}.get(rpm_unit)
-    if rpm_unit == "erpm":
-        if poles is None:
-            raise InputError("--poles", "the magnet pole count, to turn electrical rpm into rotor rate",
-                             None)
-        rpm_scale = 1.0 / 60.0 / (poles / 2.0)
-    split = lambda text: tuple(p.strip() for p in text.split(",") if p.strip()) if text else None  # noqa: E731
-    return Columns(signals=split(signal), time_column=time_column, time_scale_s=time_scale,
-                   sample_rate_hz=rate, throttle_column=throttle_column, throttle_unit=throttle_unit,
-                   rpm_columns=split(rpm_columns) or (), rpm_scale_hz=rpm_scale)
-
-
 def _modes_progress(quiet: bool, rows: int, channels: int):
     """A click progress bar on stderr for long analyses, else a no-op context."""
     import contextlib
@@ -86,32 +66,28 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
 
     if kind == "flight":  # a long recording streams in a second process: start it first
         worker.warm_up(recording)
-    from ..identify import (
-        FlightSettings,
-        TapSettings,
-        analyse_flight,
-        analyse_tap,
-        open_recording,
-    )
+    from ..identify import analyse_flight, analyse_tap, open_recording
+    from ..identify.options import recording_plan
     from ..report.modes import render_json, render_table, render_toml
 
-    columns = _modes_columns(opts.pop("signal"), opts.pop("time_column"), opts.pop("time_unit"),
-                             opts.pop("rate"), opts.pop("throttle_column"), opts.pop("rpm_columns"),
-                             opts.pop("rpm_unit"), opts["poles"], opts.pop("throttle_unit"))
-    rec = open_recording(recording, columns)
-    band = dict(min_frequency_hz=opts["min_frequency"], max_frequency_hz=opts["max_frequency"])
+    build = None
+    if build_file is not None:
+        from ..inputs.buildfile import load_build
+
+        build = load_build(build_file)
+    plan = recording_plan(kind, build=build, axes=axes, include_candidates=include_candidates, **opts)
+    rec = open_recording(recording, plan.columns)
     run: Callable[[Callable[[int, int], None]], ModesResult]
     if kind == "tap":
-        tap_settings = TapSettings(resolution_hz=opts["resolution"],
-                                   include_candidates=include_candidates, **band)
+        tap_settings = plan.settings
 
         def run(tick: Callable[[int, int], None]) -> ModesResult:
-            return analyse_tap(rec, tap_settings, progress=tick)
+            return analyse_tap(rec, tap_settings, progress=tick)  # type: ignore[arg-type]
     else:
-        flight_settings = FlightSettings(**band, **_modes_flight_options(opts, axes, build_file))
+        flight_settings = plan.settings
 
         def run(tick: Callable[[int, int], None]) -> ModesResult:
-            return analyse_flight(rec, flight_settings, progress=tick)
+            return analyse_flight(rec, flight_settings, progress=tick)  # type: ignore[arg-type]
     with _modes_progress(quiet, rec.rows_estimate, len(rec.signal_names)) as bar:
         last = [0]
 
@@ -127,29 +103,10 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
     click.echo(render_json(result) if fmt == "json" else render_table(result), nl=False)
 
 
-def _modes_flight_options(opts: dict, axes: str | None, build_file: Path | None) -> dict:
-    """FlightSettings keywords: resolution, axes, and the motor and prop counts (from --build)."""
-    out: dict = {"blades": opts["blades"], "poles": opts["poles"], "slots": opts["slots"]}
-    if opts["resolution"] is not None:
-        out.update(resolution_hz=opts["resolution"], resolution_given=True)
-    if axes:
-        out["axes"] = tuple(a.strip() for a in axes.split(",") if a.strip())
-    if build_file is not None:
-        from ..inputs.buildfile import load_build
-        from ..model.drive import Drive
-
-        build = load_build(build_file)
-        drive = Drive.from_build(build)
-        out["blades"] = out["blades"] or build.prop.blades
-        out["poles"] = out["poles"] or build.motor.poles
-        out["slots"] = out["slots"] or build.motor.slots
-        out["rotor_of_throttle"] = drive.rotor_hz  # nominal pack; a bound method pickles
-    return out
-
-
-#: Library fields of the analysis settings, the recording readers and the analysis
-#: band, and the flag that sets each.
+#: Library fields of the recording options and analysis settings, and the flag that sets each.
 FIELD_FLAGS = {
+    "time_unit": "--time-unit",
+    "rpm_unit": "--rpm-unit",
     "min_frequency_hz": "--min-frequency",
     "max_frequency_hz": "--max-frequency",
     "resolution_hz": "--resolution",
