@@ -440,7 +440,7 @@ def write_flight_csv(
     time_column : str or None, optional
         Header of the time column [s]; ``None`` leaves it out.
     signal_format : str, optional
-        printf format of the signal columns; default ``"%.4f"``.
+        The printf format of the signal columns; default ``"%.4f"``.
     """
     names: list[str] = []
     if time_column:
