@@ -30,9 +30,21 @@ class _Missing:
 MISSING = _Missing()
 
 
-def _printable(text: str) -> str:
-    """``text`` with control characters escaped, so a message stays on one line."""
-    return text if text.isprintable() else repr(text)[1:-1]
+#: Longest message an error builds [characters]; longer texts (whole header
+#: rows, long paths) are cut in the middle, so one line stays one readable line.
+MAX_MESSAGE = 300
+
+
+def _printable(text: str, limit: int = MAX_MESSAGE) -> str:
+    """``text`` with control characters escaped and cut to ``limit`` characters.
+
+    A message then stays on one line, however the path or value was written.
+    """
+    text = text if text.isprintable() else repr(text)[1:-1]
+    if len(text) > limit:
+        keep = (limit - 5) // 2
+        text = f"{text[:keep]} ... {text[-keep:]}"
+    return text
 
 
 class ClashcheckError(Exception):
@@ -65,10 +77,10 @@ class InputError(ClashcheckError, ValueError):
         got = repr(self.got)
         if len(got) > 80:
             got = got[:77] + "..."
-        text = f"{_printable(str(self.field))}: expected {self.expected}, got {got}"
+        text = f"{_printable(str(self.field), 160)}: expected {self.expected}, got {got}"
         if self.hint:
             text += f" ({self.hint})"
-        return text
+        return _printable(text, MAX_MESSAGE + 60)
 
     def __reduce__(self):  # keep pickling (multiprocessing, hypothesis) working
         return (type(self), (self.field, self.expected, self.got, self.hint))
@@ -91,8 +103,8 @@ class RecordingError(ClashcheckError, ValueError):
         self.path = path
         self.location = location
         self.problem = problem
-        where = f"{path}, {location}" if location else path
-        super().__init__(f"{where}: {problem}")
+        where = f"{_printable(str(path), 160)}, {location}" if location else _printable(str(path), 160)
+        super().__init__(f"{where}: {_printable(str(problem))}")
 
     def __reduce__(self):
         return (type(self), (self.path, self.location, self.problem))
@@ -107,7 +119,7 @@ class OutputError(ClashcheckError, OSError):
         super().__init__(f"{path}: {problem}")
 
     def __str__(self) -> str:
-        return f"{self.path}: {self.problem}"
+        return f"{_printable(str(self.path), 160)}: {_printable(str(self.problem))}"
 
     def __reduce__(self):
         return (type(self), (self.path, self.problem))

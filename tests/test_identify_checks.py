@@ -96,14 +96,14 @@ def test_missing_values_are_skipped_and_counted(tmp_path):
 
 def test_missing_values_without_timestamps(tmp_path):
     arr = np.ones((50, 1))
-    arr[10:12] = np.nan
+    arr[10:13] = np.nan  # three rows: more than MAX_FILLED_ROWS, so a break
     p = tmp_path / "n.npy"
     np.save(p, arr)
     rec = open_recording(p, Columns(sample_rate_hz=100.0))
     cond = Conditioner(rec)
     runs = [r for b in rec.blocks() for r in cond.feed(b)]
     f = cond.finish()
-    assert f.rows_missing == 2 and [r.signals.shape[0] for r in runs] == [10, 38]
+    assert f.rows_missing == 3 and [r.signals.shape[0] for r in runs] == [10, 37]
     assert runs[0].run != runs[1].run
 
 
@@ -164,3 +164,114 @@ def test_require_sample_rate_says_the_rate_needed():
     with pytest.raises(RecordingError, match=r"sampled at 1000 Hz, too slow for modes up to "
                                              r"900 Hz; that needs at least 2250 Hz"):
         require_sample_rate("r.wav", 1000.0, 900.0)
+
+
+# --- timestamps as people export them (issue 11, deliver 4) ---------------------------------
+# The logs are written here with a stated rounding; the generator is this test's own.
+
+
+def _rounded_log(path, t_true, x, fmt, header="t,gx"):
+    """A CSV with the true times printed in ``fmt`` (the export's rounding)."""
+    with open(path, "w") as fh:
+        fh.write(header + "\n")
+        for ti, xi in zip(t_true, x):
+            fh.write(f"{fmt % ti},{xi:.9f}\n")
+    return path
+
+
+def _signal(n, fs, seed=0):
+    rng = np.random.default_rng(seed)
+    t = np.arange(n) / fs
+    return np.sin(2 * np.pi * 123.0 * t) + 0.1 * rng.standard_normal(n)
+
+
+def test_tenth_ms_at_4khz_is_uniform_not_resampled(tmp_path):
+    fs, n = 4000.0, 40000
+    t = 2.0 + np.arange(n) / fs
+    x = _signal(n, fs)
+    f, runs = _run(_rounded_log(tmp_path / "r.csv", t, x, "%.4f"), block_rows=8192)
+    # printed to 0.1 ms: 0.25 ms steps show as 0.2 and 0.3 ms, std 0.05 ms = 20 % (derived)
+    assert f.rounded_uniform and not f.resampled
+    assert f.time_precision_s == pytest.approx(1e-4)
+    assert f.apparent_jitter == pytest.approx(0.2, rel=0.05)
+    assert f.jitter < 0.01  # real jitter: none was added
+    assert f.sample_rate_hz == pytest.approx(fs, rel=1e-6)
+    y = np.concatenate([r.signals[:, 0] for r in runs])
+    np.testing.assert_allclose(y, np.round(x, 9), atol=1e-9)  # passed through, never interpolated
+    assert {r.run for r in runs} == {0} and f.gaps == 0
+    assert any("printed to 0.1 ms" in w and "20 % jittery" in w and "real jitter" in w
+               for w in f.warnings)
+
+
+def test_six_significant_digits_past_100_s_repeat_but_are_accepted(tmp_path):
+    fs, n = 4000.0, 60000  # 95 s to 110 s: past 100 s six digits leave 1 ms, times repeat
+    t = 95.0 + np.arange(n) / fs
+    x = _signal(n, fs, seed=3)
+    f, runs = _run(_rounded_log(tmp_path / "g.csv", t, x, "%.6g"), block_rows=16384)
+    assert f.rounded_uniform and not f.resampled
+    assert f.time_precision_s == pytest.approx(1e-3)
+    assert f.sample_rate_hz == pytest.approx(fs, rel=1e-5)
+    assert sum(r.signals.shape[0] for r in runs) == n and f.gaps == 0
+    assert any("repeat" in w and "--rate" in w for w in f.warnings)
+
+
+def test_integer_microseconds_with_time_unit(tmp_path):
+    fs, n = 8000.0, 16000
+    t_us = np.round(1e6 * np.arange(n) / fs + 12345)
+    x = _signal(n, fs, seed=4)
+    p = _rounded_log(tmp_path / "us.csv", t_us, x, "%d")
+    f, runs = _run(p, time_scale_s=1e-6)
+    assert f.sample_rate_hz == pytest.approx(fs, rel=1e-9) and not f.resampled
+    assert sum(r.signals.shape[0] for r in runs) == n
+
+
+def test_integer_milliseconds_at_4khz_with_time_unit(tmp_path):
+    fs, n = 4000.0, 40000  # four samples share each printed millisecond
+    t_ms = np.floor(1e3 * np.arange(n) / fs)
+    x = _signal(n, fs, seed=5)
+    f, runs = _run(_rounded_log(tmp_path / "ms.csv", t_ms, x, "%d"), time_scale_s=1e-3)
+    assert f.rounded_uniform and f.time_precision_s == pytest.approx(1e-3)
+    assert f.sample_rate_hz == pytest.approx(fs, rel=1e-4)
+    assert sum(r.signals.shape[0] for r in runs) == n
+
+
+def test_real_jitter_is_told_apart_from_rounding(tmp_path):
+    fs, n = 1000.0, 20000
+    rng = np.random.default_rng(6)
+    t = np.arange(n) / fs + rng.normal(0, 0.03e-3, n)  # 3 % real jitter, printed to 1 µs
+    x = _signal(n, fs, seed=6)
+    f, _runs = _run(_rounded_log(tmp_path / "j.csv", t, x, "%.6f"), block_rows=8192)
+    assert not f.rounded_uniform and f.resampled
+    # jitter of the intervals: √2 × 3 % (derived); 1 µs rounding adds little
+    assert f.jitter == pytest.approx(0.03 * np.sqrt(2), rel=0.1)
+
+
+def test_repeated_time_in_full_precision_is_refused_with_rate_hint(tmp_path):
+    t = np.arange(2000) / 1000.0
+    t[700] = t[699]  # a duplicated time although printed in full
+    with pytest.raises(RecordingError, match=r"row 702: the time repeats.*--rate"):
+        _run(_write(tmp_path / "d.csv", t, np.sin(t)))
+
+
+def test_isolated_short_rows_are_filled_not_split(tmp_path):
+    fs, n = 1000.0, 20000
+    rng = np.random.default_rng(7)
+    t = np.arange(n) / fs
+    x = np.sin(2 * np.pi * 50 * t)
+    short = np.sort(rng.choice(np.arange(5, n - 5), 400, replace=False))  # 2 % short rows
+    short = short[np.diff(np.r_[-10, short]) > 3]  # isolated ones
+    lines = ["t,gx,gy"] + [f"{ti:.6f},{xi:.6f},{xi:.6f}" for ti, xi in zip(t, x)]
+    for k in short:
+        lines[k + 1] = f"{t[k]:.6f},{x[k]:.6f}"  # the last field is missing
+    p = tmp_path / "short.csv"
+    p.write_text("\n".join(lines) + "\n")
+    rec = open_recording(p, Columns(signals=("gx", "gy"), time_column="t"))
+    cond = Conditioner(rec)
+    runs = [r for b in rec.blocks() for r in cond.feed(b)]
+    f = cond.finish()
+    assert {r.run for r in runs} == {0} and f.rows_used == n
+    assert f.rows_filled == short.size and f.rows_missing == short.size
+    y = np.concatenate([r.signals for r in runs])
+    # linear interpolation of a 50 Hz sine across one missing row (neighbours 2 ms apart):
+    # error below (2π·50 · 0.002)²/8 ≈ 4.9 % (derived)
+    assert np.max(np.abs(y[:, 1] - x)) < 0.0494

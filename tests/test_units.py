@@ -190,7 +190,42 @@ def test_memo_file_lets_a_later_run_skip_pint(tmp_path, repo):
     first = subprocess.run([sys.executable, "-c", env_code], capture_output=True, text=True, env=env,
                            cwd=repo, timeout=60, check=True)
     assert json.loads(first.stdout) == [32.5, True]
-    assert (tmp_path / "units-v1.json").is_file()
+    assert (tmp_path / "units-v2.json").is_file()
     second = subprocess.run([sys.executable, "-c", env_code], capture_output=True, text=True, env=env,
                             cwd=repo, timeout=60, check=True)
     assert json.loads(second.stdout) == [32.5, False]
+
+
+# --- text forms and the keyed cache (issue 12) -------------------------------------------
+
+
+@pytest.mark.parametrize("text", ["45 m\u2126", "45 m\u03a9", "45\u00a0mohm", "45\u202fmohm", "45 mohm"])
+def test_unit_strings_are_nfkc_normalised(text):
+    assert units.parse(text, "ohm", "motor.resistance") == pytest.approx(0.045)  # 45 mΩ, derived
+
+
+def test_micro_sign_and_greek_mu_agree():
+    assert units.parse("3 \u00b5s", "s", "t") == units.parse("3 \u03bcs", "s", "t") == pytest.approx(3e-6)
+
+
+def test_gr_is_refused_as_ambiguous_with_a_hint():
+    with pytest.raises(InputError, match=r"frame\.mass: .*'690 gr'.*write 'g' for grams"):
+        units.parse("690 gr", "kg", "frame.mass")
+    assert units.parse("690 grain", "kg", "frame.mass") == pytest.approx(0.0447, rel=1e-3)  # 64.79891 mg each
+
+
+def test_cache_file_is_keyed_and_checksummed(tmp_path, monkeypatch):
+    monkeypatch.setenv("CLASHCHECK_CACHE_DIR", str(tmp_path))
+    monkeypatch.setattr(units, "_memo", {})
+    monkeypatch.setattr(units, "_memo_loaded", False)
+    units.parse("5 in", "m", "prop.diameter")
+    doc = json.loads((tmp_path / units._CACHE_NAME).read_text())
+    assert doc["key"] == units._rules_key() and doc["checksum"] == units._checksum(doc["entries"])
+    # a well-formed file under other rules is ignored
+    doc["key"] = "0" * 64
+    doc["entries"]["in"] = [1.0, "[length]"]
+    doc["checksum"] = units._checksum(doc["entries"])
+    (tmp_path / units._CACHE_NAME).write_text(json.dumps(doc))
+    monkeypatch.setattr(units, "_memo", {})
+    monkeypatch.setattr(units, "_memo_loaded", False)
+    assert units.parse("5 in", "m", "prop.diameter") == pytest.approx(0.127)  # 5 × 25.4 mm

@@ -89,6 +89,8 @@ __all__ = [
     "score_candidates",
     "rank",
     "pick",
+    "MAX_CANDIDATES",
+    "MAX_PICK_WORK",
 ]
 
 #: What a user may pin.
@@ -97,6 +99,11 @@ PIN_NAMES = ("motor", "kv", "poles", "prop", "cells")
 DEFAULT_HOVER_RANGE = (0.25, 0.50)
 #: Candidates scored per block (bounds memory: block × states × modes × orders).
 _BLOCK = 2048
+#: Most candidates in one search (the product of all axes): checked before any
+#: axis is built or scored (about 30 s and 300 MB at this size; see the README).
+MAX_CANDIDATES = 200_000
+#: Most candidates × modes in one search: the scoring work grows with both.
+MAX_PICK_WORK = 2_000_000
 #: Default propeller search: catalog props from this share of the build's diameter up to it.
 _PROP_DIAMETER_SHARE = 0.8
 #: Default motor search: catalog motors from half to twice the build motor's mass.
@@ -169,6 +176,10 @@ class SearchSpace:
         for name, axis in (("motors", self.motors), ("props", self.props), ("cells", self.cells)):
             if not axis:
                 raise InputError(name, "at least one candidate (an empty candidate set)", [])
+        size = self.size
+        if size > MAX_CANDIDATES:
+            raise InputError("candidates", f"at most {MAX_CANDIDATES} candidates (the product of all axes)",
+                             " × ".join(str(n) for n in self.shape) + f" = {size}")
         for n in self.cells:
             if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= 24:
                 raise InputError("cells", "cell counts from 1 to 24", n)
@@ -471,8 +482,10 @@ def search_space(
             raise InputError("kv_range", "a high Kv at or above the low one (an empty candidate set)",
                              f"{60 * high:g} rpm/V < {60 * low:g} rpm/V")
         count = int(math.floor((high - low) / step * (1 + 1e-12))) + 1
-        if count > 1_000_000:
-            raise InputError("kv_range", "at most 1000000 Kv values", count)
+        others = max(len(set(poles)), 1) * max(len(set(cells)), 1)
+        if count * others > MAX_CANDIDATES:  # before the Kv axis is built
+            raise InputError("kv_range", f"at most {MAX_CANDIDATES} candidates (Kv values × pole "
+                             "counts × cell counts × props)", f"{count} Kv values × {others}")
         kvs = low + step * np.arange(count)
         motor_axis = tuple(MotorOption(f"Kv {60 * kv:.0f} rpm/V", kv_variant(build.motor, float(kv)), "kv sweep")
                            for kv in kvs)
@@ -1106,7 +1119,13 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
     """
     if isinstance(top, bool) or not isinstance(top, int) or not 1 <= top <= 100:
         raise InputError("top", "a whole number from 1 to 100", top)
-    scores = score_candidates(build, space)
+    work = space.size * max(len(build.modes), 1)
+    if work > MAX_PICK_WORK:  # before any scoring array is allocated
+        raise InputError("candidates", f"at most {MAX_PICK_WORK} candidate-modes (candidates × the "
+                         f"build's {len(build.modes)} modes)", f"{space.size} candidates",
+                         "narrow the search or keep the modes in the analysed band")
+    # the scoring arrays grow with block × modes: fewer candidates per block for many modes
+    scores = score_candidates(build, space, block=max(32, min(_BLOCK, 8 * _BLOCK // max(len(build.modes), 1))))
     order = rank(scores)
     picks = []
     disagree: list[str] = []

@@ -13,11 +13,13 @@ This is the only module that imports click.
 from __future__ import annotations
 
 import codecs
+import errno
+import os
 import sys
 
 import click
 
-from ..errors import ClashcheckError, InputError
+from ..errors import ClashcheckError, InputError, _printable
 from ._common import EXIT_BUG, EXIT_INPUT
 
 #: ASCII spellings for the characters the reports use, for streams that cannot encode them.
@@ -98,6 +100,19 @@ def _as_flags(exc: ClashcheckError) -> ClashcheckError:
     return exc
 
 
+#: Errors of writing to standard output: full disk, closed pipe, too large, I/O.
+_OUTPUT_ERRNOS = (errno.ENOSPC, errno.EPIPE, errno.EFBIG, errno.EIO)
+
+
+def _quiet_stdout() -> None:
+    """Point standard output at the null device, so the exit's flush fails no second time."""
+    try:
+        null = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(null, sys.stdout.fileno())
+    except (OSError, ValueError, AttributeError):
+        pass
+
+
 class _InputFailure(click.ClickException):
     exit_code = EXIT_INPUT
 
@@ -147,13 +162,17 @@ class _Group(click.Group):
             raise
         except click.UsageError as exc:  # one line, not the usage block
             where = exc.ctx.command_path if exc.ctx is not None else "clashcheck"
-            raise _InputFailure(f"{exc.format_message()} (see '{where} --help')") from None
+            text = " ".join(exc.format_message().split())
+            raise _InputFailure(f"{text} (see '{where} --help')") from None
         except ClashcheckError as exc:
             raise _InputFailure(str(_as_flags(exc))) from None
         except UnicodeDecodeError as exc:
             raise _InputFailure(f"input is not UTF-8 text: {exc.reason}") from None
         except OSError as exc:
-            name = exc.filename if exc.filename is not None else "file"
+            if exc.filename is None and exc.errno in _OUTPUT_ERRNOS:  # stdout full or closed
+                _quiet_stdout()
+                raise _InputFailure(f"standard output: cannot write ({exc.strerror or exc})") from None
+            name = _printable(str(exc.filename)) if exc.filename is not None else "file"
             raise _InputFailure(f"{name}: {exc.strerror or exc}") from None
         except (click.exceptions.Exit, click.Abort, click.ClickException, KeyboardInterrupt):
             raise

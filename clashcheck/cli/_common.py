@@ -140,3 +140,18 @@ def emit(text: str, output: Path | None, inputs) -> None:
 PATH = click.Path(dir_okay=False, path_type=Path)
 
 
+def _set_force(ctx: click.Context, param: click.Parameter, value: bool) -> bool:
+    from ..files import FORCE
+
+    FORCE.set(bool(value))
+    return value
+
+
+#: ``--force``: replace an existing output file that clashcheck did not write
+#: (see :mod:`clashcheck.files` for the output policy).
+force_option = click.option(
+    "--force", is_flag=True, expose_value=False, callback=_set_force, is_eager=True,
+    help="Replace an existing output file that clashcheck did not write.",
+)
+
+

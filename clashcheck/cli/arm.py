@@ -6,6 +6,8 @@ from pathlib import Path
 
 import click
 
+from ._common import PATH, emit, force_option
+
 # --- arm estimate (issue 4) -------------------------------------------------
 
 _ARM_OPTIONS = (
@@ -38,7 +40,9 @@ def _arm_options(func):
 @_arm_options
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table",
               show_default=True, help="Output format.")
-def arm_command(build_file: Path | None, fmt: str, **options: object) -> None:
+@click.option("--output", "-o", type=PATH, help="Write the estimate here (atomically).")
+@force_option
+def arm_command(build_file: Path | None, fmt: str, output: Path | None, **options: object) -> None:
     """Estimate the arm's flap and lead-lag bending modes from beam theory.
 
     Give a BUILD file with a [frame.arm] table, or the arm's geometry as
@@ -64,7 +68,8 @@ def arm_command(build_file: Path | None, fmt: str, **options: object) -> None:
     else:
         geometry = parse_arm_table(table, field="arm")
     estimate = estimate_arm(geometry)
-    click.echo(json.dumps(arm_json(estimate), indent=2) if fmt == "json" else arm_table(estimate))
+    text = json.dumps(arm_json(estimate), indent=2) if fmt == "json" else arm_table(estimate)
+    emit(text + "\n", output, [build_file] if build_file is not None else [])
 
 
 

@@ -13,6 +13,7 @@ from ._common import (
     FAIL_LEVELS,
     FORMATS,
     PATH,
+    force_option,
 )
 
 
@@ -33,6 +34,7 @@ from ._common import (
     help="Measured modes (from 'clashcheck modes --output') to merge into the build.",
 )
 @click.option("--output", "-o", type=click.Path(path_type=Path), help="Write the report here (atomically).")
+@force_option
 @click.option("--plot", "plot_file", type=click.Path(dir_okay=False, path_type=Path),
               help="Also draw the Campbell diagram here (.png, .svg, .pdf; needs the [plot] extra). "
                    "With --format markdown the report embeds it and adds computed suggestions.")
@@ -110,6 +112,7 @@ def catalog(kind: str, fmt: str) -> None:
 @click.command("plot")
 @click.argument("build_file", type=PATH)
 @click.option("--output", "-o", type=PATH, required=True, help="The diagram: .png, .svg or .pdf.")
+@force_option
 @click.option("--modes", "modes_file", type=PATH, help="Measured modes to merge into the build.")
 def plot_command(build_file: Path, output: Path, modes_file: Path | None) -> None:
     """Draw the Campbell diagram: excitation frequency against throttle, with the frame modes.

@@ -16,6 +16,7 @@ from ._common import (
     Counts,
     Quantity,
     emit,
+    force_option,
 )
 
 
@@ -61,6 +62,7 @@ def _load(path: Path):
                    "states A's very mass; 'stated' keeps B's figure; 'parts' always adds the change.")
 @click.option("--plot", "plot_file", type=PATH, help="Draw both Campbell diagrams side by side here.")
 @click.option("--output", "-o", type=click.Path(path_type=Path), help="Write the report here (atomically).")
+@force_option
 def compare(build_a: Path, build_b: Path, fmt: str, fail_on: str, no_shift: bool, mass: str,
             plot_file: Path | None, output: Path | None) -> None:
     """Compare build A with a proposed swap B, side by side.
@@ -109,6 +111,7 @@ def compare(build_a: Path, build_b: Path, fmt: str, fail_on: str, no_shift: bool
 @click.option("--write-build", "write_build", type=PATH,
               help="Write the top candidate as a build file here (atomically, never over an input), "
                    "for 'check' and 'compare'.")
+@force_option
 def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str | None,
          kv_from: float | None, kv_to: float | None, kv_step: float, hover_low: float, hover_high: float,
          write_build: Path | None, **options) -> None:
@@ -130,6 +133,9 @@ def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str |
     prop_ids: str | list[str] | None = props
     if props is not None and props != "catalog":
         prop_ids = [p.strip() for p in props.split(",") if p.strip()]
+        if not prop_ids:  # ',' is no list, and never means "all catalog props"
+            raise InputError("--props", "'catalog' or catalog propeller ids separated by commas",
+                             props)
     if write_build is not None and output is not None and Path(write_build).resolve() == Path(output).resolve():
         raise OutputError(str(write_build), "the build file and the report need different files")
     build = _load(build_file)

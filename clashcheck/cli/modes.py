@@ -3,18 +3,25 @@
 from __future__ import annotations
 
 import sys
+from collections.abc import Callable
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import click
+
+if TYPE_CHECKING:
+    from ..identify import ModesResult
 
 from ._common import (
     PATH,
     Quantity,
     emit,
+    force_option,
 )
 
 
-def _modes_columns(signal, time_column, time_unit, rate, throttle_column, rpm_columns, rpm_unit, poles):
+def _modes_columns(signal, time_column, time_unit, rate, throttle_column, rpm_columns, rpm_unit, poles,
+                   throttle_unit=None):
     """The reader's column plan from the command-line options."""
     from ..errors import InputError
     from ..identify import Columns
@@ -29,7 +36,7 @@ def _modes_columns(signal, time_column, time_unit, rate, throttle_column, rpm_co
         rpm_scale = 1.0 / 60.0 / (poles / 2.0)
     split = lambda text: tuple(p.strip() for p in text.split(",") if p.strip()) if text else None  # noqa: E731
     return Columns(signals=split(signal), time_column=time_column, time_scale_s=time_scale,
-                   sample_rate_hz=rate, throttle_column=throttle_column,
+                   sample_rate_hz=rate, throttle_column=throttle_column, throttle_unit=throttle_unit,
                    rpm_columns=split(rpm_columns) or (), rpm_scale_hz=rpm_scale)
 
 
@@ -49,7 +56,9 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--time-column", help="Column holding the sample time (CSV, structured .npy).")
 @click.option("--time-unit", default="s", show_default=True, help="Unit of the time column, e.g. 'ms', 'us'.")
 @click.option("--rate", type=Quantity("Hz", "8 kHz"), help="Sample rate, when there is no time column.")
-@click.option("--throttle-column", help="Throttle column (fraction 0–1 or percent).")
+@click.option("--throttle-column", help="Throttle column (fraction 0–1, percent or 1000–2000 µs pulse).")
+@click.option("--throttle-unit", type=click.Choice(["fraction", "percent", "us"]),
+              help="Unit of the throttle column (default: told from its values).")
 @click.option("--rpm-columns", help="Rotor-rate columns, one per motor, e.g. 'rpm1,rpm2,rpm3,rpm4'.")
 @click.option("--rpm-unit", type=click.Choice(["rpm", "Hz", "erpm"]), default="rpm", show_default=True,
               help="Unit of the rotor-rate columns; 'erpm' (electrical rpm) needs --poles.")
@@ -63,9 +72,12 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--resolution", type=Quantity("Hz", "1 Hz"), help="Frequency resolution of the spectra.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @click.option("--output", "-o", type=PATH, help="Also write the modes as a build fragment (TOML).")
+@force_option
+@click.option("--include-candidates", is_flag=True,
+              help="Also write weak or flagged peaks (confidence below the floor) as modes.")
 @click.option("--quiet", "-q", is_flag=True, help="No progress bar.")
 def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str | None, fmt: str,
-                  output: Path | None, quiet: bool, **opts) -> None:
+                  output: Path | None, quiet: bool, include_candidates: bool, **opts) -> None:
     """Find frame modes (frequency, damping, axis) in a tap test or flight recording.
 
     Tap tests are done with the propellers removed. Results are design advice.
@@ -85,15 +97,21 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
 
     columns = _modes_columns(opts.pop("signal"), opts.pop("time_column"), opts.pop("time_unit"),
                              opts.pop("rate"), opts.pop("throttle_column"), opts.pop("rpm_columns"),
-                             opts.pop("rpm_unit"), opts["poles"])
+                             opts.pop("rpm_unit"), opts["poles"], opts.pop("throttle_unit"))
     rec = open_recording(recording, columns)
     band = dict(min_frequency_hz=opts["min_frequency"], max_frequency_hz=opts["max_frequency"])
+    run: Callable[[Callable[[int, int], None]], ModesResult]
     if kind == "tap":
-        settings = TapSettings(resolution_hz=opts["resolution"], **band)
-        analyse = analyse_tap
+        tap_settings = TapSettings(resolution_hz=opts["resolution"],
+                                   include_candidates=include_candidates, **band)
+
+        def run(tick: Callable[[int, int], None]) -> ModesResult:
+            return analyse_tap(rec, tap_settings, progress=tick)
     else:
-        settings = FlightSettings(**band, **_modes_flight_options(opts, axes, build_file))
-        analyse = analyse_flight
+        flight_settings = FlightSettings(**band, **_modes_flight_options(opts, axes, build_file))
+
+        def run(tick: Callable[[int, int], None]) -> ModesResult:
+            return analyse_flight(rec, flight_settings, progress=tick)
     with _modes_progress(quiet, rec.rows_estimate, len(rec.signal_names)) as bar:
         last = [0]
 
@@ -102,9 +120,10 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
                 bar.update(max(0, min(done, total) - last[0]))
                 last[0] = max(last[0], min(done, total))
 
-        result = analyse(rec, settings, progress=tick)
+        result = run(tick)
     if output is not None:
-        emit(render_toml(result), output, [recording] + ([build_file] if build_file else []))
+        emit(render_toml(result, include_candidates=include_candidates), output,
+             [recording] + ([build_file] if build_file else []))
     click.echo(render_json(result) if fmt == "json" else render_table(result), nl=False)
 
 
@@ -127,6 +146,26 @@ def _modes_flight_options(opts: dict, axes: str | None, build_file: Path | None)
         out["rotor_of_throttle"] = drive.rotor_hz  # nominal pack; a bound method pickles
     return out
 
+
+#: Library fields of the analysis settings, the recording readers and the analysis
+#: band, and the flag that sets each.
+FIELD_FLAGS = {
+    "min_frequency_hz": "--min-frequency",
+    "max_frequency_hz": "--max-frequency",
+    "resolution_hz": "--resolution",
+    "axes": "--axes",
+    "blades": "--blades",
+    "poles": "--poles",
+    "slots": "--slots",
+    "rpm_columns": "--rpm-columns",
+    "signals": "--signal",
+    "time_column": "--time-column",
+    "sample_rate_hz": "--rate",
+    "time_scale_s": "--time-unit",
+    "rpm_scale_hz": "--rpm-unit",
+    "throttle_unit": "--throttle-unit",
+    "include_candidates": "--include-candidates",
+}
 
 #: The commands this module adds to the group.
 COMMANDS = (modes_command,)

@@ -19,10 +19,12 @@ file, the row or byte, and the problem.
 
 from __future__ import annotations
 
+import csv
 import itertools
 import math
 import os
 import re
+import stat
 import struct
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
@@ -37,12 +39,32 @@ __all__ = [
     "Recording",
     "open_recording",
     "RPM_UNITS",
+    "THROTTLE_UNITS",
     "BLOCK_ROWS",
     "PREFETCH",
+    "MAX_FIELDS",
+    "HEADER_BYTES",
+    "MAX_CHANNELS",
+    "MAX_SIGNALS",
 ]
 
 #: Rows per block handed to the analysis (about 3 MB of float64 for 3 axes).
 BLOCK_ROWS = 1 << 17
+
+#: Most columns (CSV fields, .npy columns or fields) a recording may have.
+MAX_FIELDS = 1024
+#: Longest CSV header row read [bytes].
+HEADER_BYTES = 1 << 16
+#: Most WAV channels read.
+MAX_CHANNELS = 64
+#: Most signal columns analysed together.
+MAX_SIGNALS = 16
+#: Most cells (rows × fields) the CSV parser holds at once, so a wide file
+#: is read in shorter blocks instead of a larger allocation.
+MAX_BLOCK_CELLS = 1 << 20
+
+#: Units accepted for throttle columns.
+THROTTLE_UNITS = ("fraction", "percent", "us")
 
 #: Units accepted for rotor-rate columns.
 RPM_UNITS = ("rpm", "Hz", "erpm")
@@ -65,8 +87,11 @@ class Columns:
     time_scale_s: float = 1.0
     #: Stated sample rate [Hz]; ``None`` when it comes from the file.
     sample_rate_hz: float | None = None
-    #: Column holding the throttle (fraction 0–1 or percent 0–100).
+    #: Column holding the throttle (fraction 0–1, percent 0–100 or pulse width 1000–2000 µs).
     throttle_column: str | None = None
+    #: Unit of the throttle column: ``"fraction"``, ``"percent"``, ``"us"`` (a 1000–2000 µs
+    #: pulse width), or ``None`` to tell from the values.
+    throttle_unit: str | None = None
     #: Columns holding rotor rates, one per motor; averaged.
     rpm_columns: tuple[str, ...] = ()
     #: Multiply rotor-rate column values by this to get rotor rate [Hz].
@@ -74,19 +99,23 @@ class Columns:
 
     def __post_init__(self) -> None:
         if self.signals is not None and len(self.signals) == 0:
-            raise InputError("--signal", "at least one signal column", "")
+            raise InputError("signals", "at least one signal column", "")
         if self.time_column is not None and self.sample_rate_hz is not None:
             raise InputError(
-                "--rate", "either --time-column or --rate, not both", self.sample_rate_hz
+                "sample_rate_hz", "either a time column or a sample rate, not both", self.sample_rate_hz
             )
         if self.sample_rate_hz is not None and not (
             math.isfinite(self.sample_rate_hz) and self.sample_rate_hz > 0
         ):
-            raise InputError("--rate", "a sample rate above 0 Hz", self.sample_rate_hz)
+            raise InputError("sample_rate_hz", "a sample rate above 0 Hz", self.sample_rate_hz)
         if not (math.isfinite(self.time_scale_s) and self.time_scale_s > 0):
-            raise InputError("--time-unit", "a unit of time", self.time_scale_s)
+            raise InputError("time_scale_s", "a unit of time", self.time_scale_s)
+        if self.throttle_unit not in (None, *THROTTLE_UNITS):
+            raise InputError("throttle_unit", "one of " + ", ".join(THROTTLE_UNITS), self.throttle_unit)
+        if self.sample_rate_hz is not None and self.sample_rate_hz > 1e6:
+            raise InputError("sample_rate_hz", "a sample rate up to 1 MHz", self.sample_rate_hz)
         if not (math.isfinite(self.rpm_scale_hz) and self.rpm_scale_hz > 0):
-            raise InputError("--rpm-unit", "one of " + ", ".join(RPM_UNITS), self.rpm_scale_hz)
+            raise InputError("rpm_scale_hz", "one of " + ", ".join(RPM_UNITS), self.rpm_scale_hz)
 
 
 @dataclass
@@ -103,6 +132,9 @@ class Block:
     throttle: np.ndarray | None = None
     #: Rotor rate [Hz] averaged over the rotor-rate columns, or ``None``.
     rotor_hz: np.ndarray | None = None
+    #: Rotor rate [Hz] of each motor, shape (rows, motors), when two or more
+    #: rotor-rate columns are read; else ``None``.
+    rotor_each_hz: np.ndarray | None = None
 
 
 @dataclass
@@ -153,7 +185,7 @@ class Recording:
             return None if vals[0] is None else np.concatenate(vals)
 
         return Block(0, cat("time_s"), np.concatenate([p.signals for p in parts]),
-                     cat("throttle"), cat("rotor_hz"))
+                     cat("throttle"), cat("rotor_hz"), cat("rotor_each_hz"))
 
 
 #: Blocks parsed ahead by the background reader.
@@ -229,8 +261,15 @@ def open_recording(path: str | os.PathLike[str], columns: Columns) -> Recording:
         If the file type is unknown or the column options do not fit it.
     """
     text = os.fspath(path)
-    if not os.path.isfile(text):
-        raise RecordingError(text, "", "no such file")
+    try:
+        mode = os.stat(text).st_mode
+    except OSError as exc:
+        raise RecordingError(text, "", "no such file" if isinstance(exc, FileNotFoundError)
+                             else f"cannot be read ({exc.strerror})") from None
+    if not stat.S_ISREG(mode):
+        what = ("a folder" if stat.S_ISDIR(mode) else "a FIFO (named pipe)" if stat.S_ISFIFO(mode)
+                else "a device" if stat.S_ISCHR(mode) or stat.S_ISBLK(mode) else "not a regular file")
+        raise RecordingError(text, "", f"{what}; a recording must be a regular file")
     ext = os.path.splitext(text)[1].lower()
     if ext in (".csv", ".txt", ".tsv"):
         return _open_csv(text, columns)
@@ -255,15 +294,24 @@ def _pandas():
     return pandas
 
 
-def _sniff_csv(path: str) -> tuple[list[str], str, int]:
-    """Header names, delimiter and an estimate of the number of data rows."""
+def _sniff_csv(path: str) -> tuple[list[str], str, int, int]:
+    """Header names, delimiter, an estimate of the data rows, and fields per data row.
+
+    The header may be quoted and may end in a delimiter (a trailing empty
+    column); data rows may end in a delimiter too.  Both are recognised here,
+    explicitly, and the reader is told how many fields a row has, so no parser
+    ever guesses an index column from a row that is one field longer.
+    """
     with open(path, "rb") as fh:
-        head = fh.read(1 << 16)
+        head = fh.read(HEADER_BYTES)
     if not head.strip():
         raise RecordingError(path, "row 1", "the file is empty; a header row was expected")
     if b"\x00" in head:
         pos = head.index(b"\x00")
         raise RecordingError(path, f"byte {pos}", "a NUL byte; this is not a text CSV file")
+    if len(head) == HEADER_BYTES and b"\n" not in head and b"\r" not in head:
+        raise RecordingError(path, "row 1", f"the header row is longer than {HEADER_BYTES // 1024} KiB; "
+                             "a CSV recording was expected")
     try:
         text = head.decode("utf-8")
     except UnicodeDecodeError as exc:
@@ -271,22 +319,36 @@ def _sniff_csv(path: str) -> tuple[list[str], str, int]:
             raise RecordingError(path, f"byte {exc.start}", "not UTF-8 text") from None
         text = head[: exc.start].decode("utf-8")
     lines = text.splitlines()
+    if not lines:
+        raise RecordingError(path, "row 1", "no text header row was found")
     header = lines[0].lstrip("\ufeff")
+    if not header.strip():
+        raise RecordingError(path, "row 1", "the first row is empty; a header row was expected")
     delim = ","
     for cand in (",", ";", "\t"):
         if cand in header:
             delim = cand
             break
-    names = [h.strip() for h in header.split(delim)]
-    if any(not n for n in names) or len(set(names)) != len(names):
-        raise RecordingError(path, "row 1", f"the header row has empty or repeated names: {header!r}")
-    sample = [ln for ln in lines[1:-1] if ln.strip()][:200]
-    size = os.path.getsize(path)
-    if sample:
-        per_row = sum(len(s) + 1 for s in sample) / len(sample)
-        rows = int((size - len(header) - 1) / per_row)
-    else:
-        rows = max(len(lines) - 1, 0)
+    if header.count(delim) >= MAX_FIELDS:
+        raise RecordingError(path, "row 1", f"the header has {header.count(delim) + 1} columns; "
+                             f"at most {MAX_FIELDS} are read")
+    try:
+        names = [h.strip() for h in next(csv.reader([header], delimiter=delim))]
+    except (csv.Error, StopIteration):
+        raise RecordingError(path, "row 1", "the header row is not valid CSV") from None
+    if not names:
+        raise RecordingError(path, "row 1", "the header row holds no names")
+    trailing_header = len(names) > 1 and names[-1] == ""
+    if trailing_header:
+        names = names[:-1]
+    empty = [k + 1 for k, n in enumerate(names) if not n]
+    if empty:
+        raise RecordingError(path, "row 1", f"the header row has an empty name in column {empty[0]}")
+    seen: set[str] = set()
+    for n in names:
+        if n in seen:
+            raise RecordingError(path, "row 1", f"the header row repeats the name {n[:40]!r}")
+        seen.add(n)
     try:
         float(names[0])
         numeric = True
@@ -294,7 +356,30 @@ def _sniff_csv(path: str) -> tuple[list[str], str, int]:
         numeric = False
     if numeric:
         raise RecordingError(path, "row 1", "a header row with column names was expected, not numbers")
-    return names, delim, max(rows, 1)
+    complete = text.endswith(("\n", "\r")) or len(head) < HEADER_BYTES
+    sample = [ln for ln in (lines[1:] if complete else lines[1:-1]) if ln.strip()][:200]
+    # a row one field longer than the names, ending in an empty field, is a
+    # trailing delimiter; it is read as one unused empty column
+    extra = 0
+    if sample:
+        longer = sum(1 for ln in sample if ln.count(delim) == len(names)
+                     and ln.rstrip("\r\n \t" if delim != "\t" else "\r\n ").endswith(delim))
+        if trailing_header or longer * 2 > len(sample):
+            extra = 1
+    elif trailing_header:
+        extra = 1
+    first = next((ln for ln in lines[1:] if ln.strip()), None)
+    if first is not None and first.count(delim) + 1 > len(names) + extra:
+        # checked here: the parser would take a longer first row as the row length
+        raise RecordingError(path, "row 2", f"malformed row (expected {len(names) + extra} fields, "
+                             f"saw {first.count(delim) + 1})")
+    size = os.path.getsize(path)
+    if sample:
+        per_row = sum(len(s) + 1 for s in sample) / len(sample)
+        rows = int((size - len(header) - 1) / per_row)
+    else:
+        rows = max(len(lines) - 1, 0)
+    return names, delim, max(rows, 1), len(names) + extra
 
 
 def _pick(path: str, names: Sequence[str], wanted: str, what: str) -> int:
@@ -311,7 +396,7 @@ def _layout(path: str, names: Sequence[str], columns: Columns, default_signals: 
     """Column indices for time, signals, throttle and rotor rates."""
     if columns.signals is None:
         if not default_signals:
-            raise InputError("--signal", "the signal column names, e.g. 'gx,gy,gz'", None)
+            raise InputError("signals", "the signal column names, e.g. 'gx,gy,gz'", None)
         used = {columns.time_column, columns.throttle_column, *columns.rpm_columns}
         sig_names = [n for n in names if n not in used]
     else:
@@ -323,24 +408,34 @@ def _layout(path: str, names: Sequence[str], columns: Columns, default_signals: 
         else _pick(path, names, columns.throttle_column, "throttle")
     )
     rpm = [_pick(path, names, r, "rotor-rate") for r in columns.rpm_columns]
+    if len(sig) > MAX_SIGNALS:
+        raise InputError("signals", f"at most {MAX_SIGNALS} signal columns", f"{len(sig)} columns",
+                         "name the ones to analyse")
+    if not sig:
+        raise RecordingError(path, "", "no signal columns: every column is the time, throttle or "
+                             "a rotor rate")
     return tcol, sig, thr, rpm, [names[i] for i in sig]
 
 
-def _split(arr: np.ndarray, first_row: int, tcol, sig, thr, rpm, columns: Columns) -> Block:
+def _split(arr: np.ndarray, first_row: int, tcol: int | None, sig: list[int], thr: int | None,
+           rpm: list[int], columns: Columns) -> Block:
     """Turn a (rows, used columns) array into a Block; columns in ``order``."""
-    time_s = None if tcol is None else arr[:, tcol] * columns.time_scale_s
-    throttle = None if thr is None else arr[:, thr]
-    rotor = None
-    if rpm:
-        rotor = arr[:, rpm].mean(axis=1) * columns.rpm_scale_hz
-    return Block(first_row, time_s, np.ascontiguousarray(arr[:, sig]), throttle, rotor)
+    with np.errstate(all="ignore"):  # values out of range become missing, checked later
+        time_s = None if tcol is None else arr[:, tcol] * columns.time_scale_s
+        throttle = None if thr is None else arr[:, thr]
+        rotor = each = None
+        if rpm:
+            rotor = arr[:, rpm].mean(axis=1) * columns.rpm_scale_hz
+            if len(rpm) > 1:
+                each = arr[:, rpm] * columns.rpm_scale_hz
+    return Block(first_row, time_s, np.ascontiguousarray(arr[:, sig]), throttle, rotor, each)
 
 
 def _open_csv(path: str, columns: Columns) -> Recording:
-    names, delim, rows = _sniff_csv(path)
+    names, delim, rows, nfields = _sniff_csv(path)
     if columns.time_column is None and columns.sample_rate_hz is None:
         raise InputError(
-            "--time-column", "a time column (--time-column t) or a sample rate (--rate '8 kHz')",
+            "time_column", "a time column or a sample rate",
             None, "a CSV recording needs one of them",
         )
     tcol, sig, thr, rpm, sig_names = _layout(path, names, columns, default_signals=False)
@@ -352,7 +447,7 @@ def _open_csv(path: str, columns: Columns) -> Recording:
         None if thr is None else pos[thr],
         [pos[i] for i in rpm],
     )
-    ncols = len(names)
+    ncols = nfields
 
     def blocks(block_rows: int) -> Iterator[Block]:
         pd = _pandas()
@@ -372,10 +467,14 @@ def _csv_blocks_pandas(pd, path, delim, names, used, ncols, block_rows, remap,
     try:
         # all columns are tokenised (no usecols), so a row with too many fields is
         # caught; only the used ones must be numbers
+        # the names are given and the header row skipped: the field count is
+        # fixed, a longer row is an error and never becomes an index
+        chunk_rows = max(256, min(block_rows, MAX_BLOCK_CELLS // ncols))
+        all_names = list(names) + [f"\x00unused{k}" for k in range(ncols - len(names))]
         reader = pd.read_csv(
-            path, sep=delim, header=0, chunksize=block_rows,
-            dtype={names[c]: np.float64 for c in used}, engine="c", skip_blank_lines=True,
-            encoding="utf-8",
+            path, sep=delim, header=None, skiprows=1, names=all_names, index_col=False,
+            chunksize=chunk_rows, dtype={names[c]: np.float64 for c in used}, engine="c",
+            skip_blank_lines=True, encoding="utf-8",
         )
         with reader:
             while True:
@@ -386,11 +485,17 @@ def _csv_blocks_pandas(pd, path, delim, names, used, ncols, block_rows, remap,
                 except pd.errors.ParserError:
                     raise
                 except ValueError as exc:  # a cell that is not a number
-                    _raise_bad_cell(path, delim, used, first, block_rows, exc)
+                    _raise_bad_cell(path, delim, used, first, chunk_rows, exc)
                 if chunk.shape[1] != ncols:
                     raise RecordingError(path, f"row {first + 2}", "malformed rows (field count)")
+                if ncols > len(names):  # the trailing field must stay empty
+                    extra = chunk.iloc[:, len(names):].notna().to_numpy().any(axis=1)
+                    if extra.any():
+                        row = first + int(np.argmax(extra)) + 2
+                        raise RecordingError(path, f"row {row}", "malformed row (a field beyond the "
+                                             "header's columns)")
                 arr = chunk.iloc[:, used].to_numpy(dtype=np.float64, copy=False)
-                yield _split(arr, first, *remap, columns)
+                yield _split(arr, first, remap[0], remap[1], remap[2], remap[3], columns)
                 first += arr.shape[0]
     except pd.errors.ParserError as exc:
         match = _PANDAS_LINE.search(str(exc))
@@ -439,7 +544,7 @@ def _csv_blocks_numpy(path, delim, used, ncols, block_rows, remap, columns) -> I
             if not lines:
                 return
             arr = _loadtxt_block(path, lines, delim, used, ncols, first)
-            yield _split(arr, first, *remap, columns)
+            yield _split(arr, first, remap[0], remap[1], remap[2], remap[3], columns)
             first += len(lines)
 
 
@@ -480,19 +585,86 @@ def _loadtxt_block(path, lines, delim, used, ncols, first) -> np.ndarray:
 
 # --------------------------------------------------------------------------- WAV
 
+def _wav_header(path: str) -> tuple[int, int, int, int]:
+    """Check a WAV file's chunks before any reader sees it.
+
+    Returns
+    -------
+    channels, rate_hz, bits, data_bytes : int
+        From the ``fmt `` chunk, and the size of the ``data`` chunk.
+
+    Raises
+    ------
+    RecordingError
+        For a missing mark, a missing or short ``fmt `` chunk, zero channels,
+        a zero rate, 8-bit or other unsupported samples, no ``data`` chunk, or
+        a ``data`` chunk cut short by the end of the file.
+    """
+    size = os.path.getsize(path)
+    with open(path, "rb") as fh:
+        head = fh.read(12)
+        if len(head) < 12 or head[:4] not in (b"RIFF", b"RF64"):
+            raise RecordingError(path, "byte 0", "not a RIFF/WAV file (no 'RIFF' mark)")
+        if head[8:12] != b"WAVE":
+            raise RecordingError(path, "byte 8", "a RIFF file but not WAVE audio")
+        pos, fmt, data = 12, None, None
+        for _ in range(1024):  # chunks before the data: a bounded walk
+            if pos + 8 > size:
+                break
+            fh.seek(pos)
+            cid = fh.read(4)
+            (clen,) = struct.unpack("<I", fh.read(4))
+            if cid == b"fmt ":
+                body = fh.read(min(clen, 40))
+                if len(body) < 16:
+                    raise RecordingError(path, f"byte {pos}", "the 'fmt ' chunk is cut short")
+                tag, channels, rate, _brate, _align, bits = struct.unpack("<HHIIHH", body[:16])
+                if tag == 0xFFFE and len(body) >= 26:  # extensible: the real tag leads the sub-format
+                    (tag,) = struct.unpack("<H", body[24:26])
+                fmt = (tag, channels, rate, bits, pos)
+            elif cid == b"data":
+                data = (pos, clen)
+                break
+            pos += 8 + clen + (clen & 1)
+    if fmt is None:
+        raise RecordingError(path, "header", "no 'fmt ' chunk: the WAV header is damaged or cut short")
+    tag, channels, rate, bits, at = fmt
+    if channels == 0:
+        raise RecordingError(path, f"byte {at + 10}", "the WAV header gives 0 channels")
+    if channels > MAX_CHANNELS:
+        raise RecordingError(path, f"byte {at + 10}",
+                             f"{channels} channels; at most {MAX_CHANNELS} are read")
+    if rate == 0:
+        raise RecordingError(path, f"byte {at + 12}", "the WAV header gives a sample rate of 0 Hz")
+    if tag == 1 and bits == 8:
+        raise RecordingError(path, "header", "8-bit samples are too coarse for modal analysis (their "
+                             "rounding shows as false peaks); record at 16 bits or more")
+    if not ((tag == 1 and bits in (16, 24, 32)) or (tag == 3 and bits in (32, 64))):
+        raise RecordingError(path, "header", f"unsupported WAV samples (format {tag}, {bits} bits); "
+                             "16-, 24- or 32-bit integer or 32/64-bit float are read")
+    if data is None:
+        raise RecordingError(path, "header", "no data chunk: the file is cut short or holds no samples")
+    dpos, dlen = data
+    (riff_size,) = struct.unpack("<I", head[4:8])
+    if head[:4] == b"RIFF" and riff_size != 0xFFFFFFFF and riff_size + 8 < dpos + 8:
+        raise RecordingError(path, "byte 4", f"the RIFF size ({riff_size} bytes) ends before the "
+                             "data chunk; the header is damaged")
+    if dlen != 0xFFFFFFFF and dpos + 8 + dlen > size:
+        raise RecordingError(path, f"byte {dpos}", f"the data chunk declares {dlen} bytes but the "
+                             f"file holds {max(size - dpos - 8, 0)}; the file is cut short")
+    return channels, rate, bits, dlen
+
+
 def _open_wav(path: str, columns: Columns) -> Recording:
     import warnings
 
     from scipy.io import wavfile
 
-    with open(path, "rb") as fh:
-        head = fh.read(12)
-    if len(head) < 12 or head[:4] not in (b"RIFF", b"RF64"):
-        raise RecordingError(path, "byte 0", "not a RIFF/WAV file (no 'RIFF' mark)")
-    if head[8:12] != b"WAVE":
-        raise RecordingError(path, "byte 8", "a RIFF file but not WAVE audio")
+    _channels, _rate, _bits, data_bytes = _wav_header(path)
+    if data_bytes == 0:
+        raise RecordingError(path, "header", "the WAV file holds no samples")
     if columns.time_column is not None or columns.throttle_column or columns.rpm_columns:
-        raise InputError("--time-column", "no time, throttle or rotor-rate column for a WAV file",
+        raise InputError("time_column", "no time, throttle or rotor-rate column for a WAV file",
                          columns.time_column or columns.throttle_column or columns.rpm_columns)
     try:
         with warnings.catch_warnings():
@@ -500,8 +672,10 @@ def _open_wav(path: str, columns: Columns) -> Recording:
             rate, data = wavfile.read(path, mmap=True)
     except wavfile.WavFileWarning as exc:
         raise RecordingError(path, "header", f"damaged WAV file ({exc})") from None
-    except (struct.error, EOFError) as exc:
+    except (struct.error, EOFError, OSError, MemoryError) as exc:
         raise RecordingError(path, "header", f"truncated WAV file ({exc})") from None
+    except (UnboundLocalError, KeyError, TypeError, IndexError) as exc:  # the parser's own slips
+        raise RecordingError(path, "header", f"damaged WAV header ({type(exc).__name__})") from None
     except ValueError as exc:
         msg = str(exc)
         if "mmap" in msg.lower() or "24" in msg:
@@ -509,7 +683,8 @@ def _open_wav(path: str, columns: Columns) -> Recording:
                 with warnings.catch_warnings():
                     warnings.simplefilter("error", wavfile.WavFileWarning)
                     rate, data = wavfile.read(path, mmap=False)
-            except (ValueError, wavfile.WavFileWarning) as exc2:
+            except (ValueError, wavfile.WavFileWarning, struct.error, EOFError, OSError,
+                    UnboundLocalError, KeyError, TypeError, IndexError) as exc2:
                 raise RecordingError(path, "header", f"unreadable WAV file ({exc2})") from None
         else:
             raise RecordingError(path, "header", f"unreadable WAV file ({msg})") from None
@@ -551,7 +726,7 @@ def _channel_indices(path: str, wanted: tuple[str, ...] | None, nch: int, what: 
     for w in wanted:
         text = w.removeprefix("ch")
         if not text.isdigit() or int(text) >= nch:
-            raise InputError("--signal", f"{what} numbers 0–{nch - 1} (e.g. '0,1')", w)
+            raise InputError("signals", f"{what} numbers 0–{nch - 1} (e.g. '0,1')", w)
         out.append(int(text))
     return out
 
@@ -559,31 +734,56 @@ def _channel_indices(path: str, wanted: tuple[str, ...] | None, nch: int, what: 
 # --------------------------------------------------------------------------- NPY
 
 def _open_npy(path: str, columns: Columns) -> Recording:
+    with open(path, "rb") as fh:
+        magic = fh.read(6)
+    if magic != b"\x93NUMPY":
+        raise RecordingError(path, "byte 0", "not a NumPy .npy file (no .npy header)")
     try:
         data = np.load(path, mmap_mode="r", allow_pickle=False)
-    except (ValueError, OSError, EOFError) as exc:
-        msg = str(exc).splitlines()[0]
+    except ValueError as exc:
+        if "pickle" in str(exc) or "object" in str(exc):
+            raise RecordingError(path, "header", "the array holds Python objects; only numeric "
+                                 "arrays are read") from None
+        msg = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+        raise RecordingError(path, "header", f"unreadable .npy file ({msg})") from None
+    except Exception as exc:  # noqa: BLE001 - numpy parses the header text with Python's own
+        # tokenizer and literal evaluator; whatever they raise on a damaged header means the same
+        msg = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
         raise RecordingError(path, "header", f"unreadable .npy file ({msg})") from None
     if not isinstance(data, np.ndarray):
         raise RecordingError(path, "header", "not a single .npy array")
     if data.dtype.names:
-        names = list(data.dtype.names)
+        if data.ndim != 1:
+            raise RecordingError(path, "header", f"a structured array must be 1-D, not {data.ndim}-D")
+        if len(data.dtype.names) > MAX_FIELDS:
+            raise RecordingError(path, "header", f"{len(data.dtype.names)} fields; at most "
+                                 f"{MAX_FIELDS} are read")
+        names = [str(n) for n in data.dtype.names]
         tcol, sig, thr, rpm, sig_names = _layout(path, names, columns, default_signals=True)
-        fields = names
+        fields = list(data.dtype.names)
+        for i in sorted({i for i in [tcol, thr, *sig, *rpm] if i is not None}):
+            sub = data.dtype.fields[fields[i]][0]
+            if sub.shape != () or sub.kind not in "iuf" or sub.itemsize > 8:
+                raise RecordingError(path, "header", f"field {names[i][:40]!r} holds {sub}; only "
+                                     "plain numbers (integer or float) are read")
 
         def get(rows, i):
             return np.asarray(rows[fields[i]], dtype=np.float64)
 
         nrows = data.shape[0]
-        if data.ndim != 1:
-            raise RecordingError(path, "header", "a structured array must be 1-D")
     else:
-        if data.dtype.kind not in "iuf":
-            raise RecordingError(path, "header", f"unsupported array type {data.dtype}")
+        if data.dtype.kind not in "iuf" or data.dtype.itemsize > 8:
+            raise RecordingError(path, "header", f"unsupported array type {data.dtype}; only plain "
+                                 "numbers (integer or float) are read")
         if data.ndim == 1:
             data = data[:, None]
         if data.ndim != 2:
             raise RecordingError(path, "header", f"expected a 1-D or 2-D array, got {data.ndim}-D")
+        if data.shape[1] == 0:
+            raise RecordingError(path, "header", "the array has no columns")
+        if data.shape[1] > MAX_FIELDS:
+            raise RecordingError(path, "header", f"{data.shape[1]} columns; at most {MAX_FIELDS} are "
+                                 "read (is the array transposed?)")
         names = [str(i) for i in range(data.shape[1])]
         tcol, sig, thr, rpm, sig_names = _layout(path, names, columns, default_signals=True)
 
@@ -593,22 +793,29 @@ def _open_npy(path: str, columns: Columns) -> Recording:
         nrows = data.shape[0]
     if columns.time_column is None and columns.sample_rate_hz is None:
         raise InputError(
-            "--rate", "a sample rate (--rate '8 kHz') or a time column (--time-column)", None,
+            "sample_rate_hz", "a sample rate or a time column", None,
             "a .npy recording needs one of them",
         )
     if nrows == 0:
         raise RecordingError(path, "header", "the array holds no rows")
 
-    def blocks(block_rows: int) -> Iterator[Block]:
-        for start in range(0, nrows, block_rows):
-            rows = data[start:start + block_rows]
+    def block_at(start: int, block_rows: int) -> Block:
+        rows = data[start:start + block_rows]
+        with np.errstate(all="ignore"):  # values out of range become missing, checked later
             sigs = np.column_stack([get(rows, i) for i in sig])
             time_s = None if tcol is None else get(rows, tcol) * columns.time_scale_s
             throttle = None if thr is None else get(rows, thr)
-            rotor = None
+            rotor = each = None
             if rpm:
-                rotor = np.mean([get(rows, i) for i in rpm], axis=0) * columns.rpm_scale_hz
-            yield Block(start, time_s, sigs, throttle, rotor)
+                each = np.column_stack([get(rows, i) for i in rpm]) * columns.rpm_scale_hz
+                rotor = each.mean(axis=1)
+                if len(rpm) == 1:
+                    each = None
+        return Block(start, time_s, sigs, throttle, rotor, each)
+
+    def blocks(block_rows: int) -> Iterator[Block]:
+        for start in range(0, nrows, block_rows):
+            yield block_at(start, block_rows)
 
     return Recording(path, "npy", tuple(sig_names), columns.sample_rate_hz, None, nrows,
                      thr is not None, bool(rpm), blocks, columns)

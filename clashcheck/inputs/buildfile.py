@@ -42,6 +42,8 @@ __all__ = [
 
 #: Largest build or modes file read [bytes].
 MAX_FILE_BYTES = 1_000_000
+#: Most modes in a build (its own and its catalog frame's) or in a modes file.
+MAX_MODES = 200
 
 _TOP_KEYS = ("name", "description", "frame", "motor", "prop", "battery", "sensor", "flight", "check")
 _FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description", "body", "layout")
@@ -90,7 +92,7 @@ def _read_toml(path: str | Path, what: str) -> dict[str, Any]:
 
 def _decode(data: bytes, name: str) -> dict[str, Any]:
     try:
-        textual = data.decode("utf-8")
+        textual = data.decode("utf-8").removeprefix("\ufeff")  # a byte-order mark is no content
     except UnicodeDecodeError as exc:
         raise InputError(name, "UTF-8 text", f"byte 0x{data[exc.start]:02x} at offset {exc.start}") from None
     try:
@@ -144,24 +146,33 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
     if not name.strip():
         raise InputError(f"{where}.name", "a non-empty name", name)
     freq = f.quantity(
-        raw, "frequency", where, "Hz", "212 Hz", required=True, minimum=0.0, exclusive_minimum=True,
-        maximum=1e5, range_text="above 0 Hz and up to 100 kHz",
+        raw, "frequency", where, "Hz", "212 Hz", required=True, minimum=0.1,
+        maximum=1e5, range_text="from 0.1 Hz to 100 kHz",
     )
     assert freq is not None
     spread = {}
     for key in ("frequency_low", "frequency_high"):  # an estimate's plausible range (written by pick)
         spread[key] = f.quantity(raw, key, where, "Hz", "200 Hz", minimum=0.0, exclusive_minimum=True,
                                  maximum=1e5, range_text="above 0 Hz and up to 100 kHz")
-    low, high = spread["frequency_low"], spread["frequency_high"]
-    if (low is not None and low > freq) or (high is not None and high < freq):
+    f_low, f_high = spread["frequency_low"], spread["frequency_high"]
+    if (f_low is not None and f_low > freq) or (f_high is not None and f_high < freq):
         raise InputError(f"{where}.frequency_low", "frequency_low ≤ frequency ≤ frequency_high",
-                         f"{low} / {freq} / {high} Hz")
+                         f"{f_low} / {freq} / {f_high} Hz")
     damping = f.ratio(raw, "damping", where, low=0.0, high=1.0, what="a damping ratio")
     details: dict[str, object] = {}
     for key in ("damping_low", "damping_high"):
         value = f.ratio(raw, key, where, low=0.0, high=1.0, what="a damping ratio")
         if value is not None:
             details[key] = value
+    low = f.ratio(raw, "damping_low", where, low=0.0, high=1.0, what="a damping ratio")
+    high = f.ratio(raw, "damping_high", where, low=0.0, high=1.0, what="a damping ratio")
+    if low is not None and high is not None and low > high:
+        raise InputError(f"{where}.damping_high", f"a damping ratio not below damping_low ({low:g})",
+                         raw["damping_high"])
+    if damping is not None and ((low is not None and damping < low) or (high is not None and damping > high)):
+        span = f"from {low if low is not None else 0:g} to {high if high is not None else 1:g}"
+        raise InputError(f"{where}.damping", f"a damping ratio within its own stated range ({span})",
+                         raw["damping"])
     confidence = f.ratio(raw, "confidence", where, low=0.0, high=1.0, open_low=False, open_high=False,
                          what="a confidence")
     if confidence is not None:
@@ -178,8 +189,8 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
         kind=f.choice(raw, "kind", where, MODE_KINDS, default="other") or "other",
         origin=origin,
         source=f.text(raw, "source", where, default="") or "",
-        frequency_low_hz=low,
-        frequency_high_hz=high,
+        frequency_low_hz=f_low,
+        frequency_high_hz=f_high,
         details=details,
     )
 
@@ -238,6 +249,9 @@ def _amplitude_damping(raw: dict[str, Any], where: str, details: dict[str, objec
 
 
 def _parse_modes(raws: list[dict[str, Any]], where: str, origin: str) -> list[Mode]:
+    if len(raws) > MAX_MODES:
+        raise InputError(where, f"at most {MAX_MODES} modes", f"{len(raws)} modes",
+                         "keep the modes in the analysed band; the rest cannot clash")
     modes = []
     seen: set[str] = set()
     for i, raw in enumerate(raws):
@@ -302,8 +316,8 @@ def parse_motor(raw: dict[str, Any]) -> Motor:
     """
     where = "motor"
     raw = _merge_catalog(raw, "motors", where, _MOTOR_KEYS)
-    kv = f.quantity(raw, "kv", where, "rpm/V", "1750 rpm/V", required=True, minimum=0.0, exclusive_minimum=True,
-                    maximum=100000 / 60, range_text="above 0 rpm/V and up to 100000 rpm/V")
+    kv = f.quantity(raw, "kv", where, "rpm/V", "1750 rpm/V", required=True, minimum=1 / 60,
+                    maximum=100000 / 60, range_text="from 1 rpm/V to 100000 rpm/V")
     poles = f.count(raw, "poles", where, minimum=2, maximum=120, required=True, what="an even pole count")
     if poles is not None and poles % 2:
         raise InputError("motor.poles", "an even pole count", poles)
@@ -646,7 +660,11 @@ def load_build(path: str | Path) -> Build:
     >>> round(build.motor.kv_hz_per_v, 4), build.pack.voltage("full")
     (29.1667, 25.200000000000003)
     """
-    return parse_build(_read_toml(path, "build file"), path=str(path))
+    data = _read_toml(path, "build file")
+    try:
+        return parse_build(data, path=str(path))
+    except InputError as exc:  # name the build file, so 'compare A B' says which one
+        raise InputError(f"{path}: {exc.field}", exc.expected, exc.got, exc.hint) from None
 
 
 def load_modes_file(path: str | Path) -> MeasuredModes:

@@ -39,7 +39,8 @@ def check_keys(raw: Mapping[str, Any], allowed: Iterable[str], where: str) -> No
     for key in raw:
         if key not in allowed:
             close = difflib.get_close_matches(str(key), allowed, n=1, cutoff=0.6)
-            hint = f"did you mean {close[0]!r}?" if close else "allowed: " + ", ".join(allowed)
+            shown = ", ".join(allowed[:8]) + (f" and {len(allowed) - 8} more" if len(allowed) > 8 else "")
+            hint = f"did you mean {close[0]!r}?" if close else "allowed: " + shown
             raise InputError(_path(where, str(key)), "a known key", str(key), hint)
 
 

@@ -23,15 +23,31 @@ each unit expression's conversion (factor to SI and dimension) is remembered in
 a small JSON file in the user's cache folder.  A later run that meets only
 known expressions never imports pint.  Set ``CLASHCHECK_CACHE_DIR`` to move the
 file, or to an empty string to turn the file off.
+
+The cache file is keyed: it records a key made of the package version and
+the conversion rules (the rewrite table below), and a checksum of its
+entries.  A file written under other rules, or edited by hand, fails one of
+the two and is ignored (the conversions are recomputed with pint), so a
+well-formed but wrong cache can never change a result.
+
+Text forms
+----------
+Value strings are normalised to Unicode NFKC first, so ``45 mΩ`` typed with
+the OHM SIGN (U+2126), a MICRO SIGN, or a no-break space read as the plain
+forms.  ``gr`` is refused as ambiguous: pint reads it as grains (64.8 mg),
+while in the trade it is a common misspelling of grams.
 """
 
 from __future__ import annotations
 
+import hashlib
 import json
 import math
 import os
 import re
+import sys
 import tempfile
+import unicodedata
 from functools import cache
 from pathlib import Path
 from typing import Any
@@ -84,7 +100,12 @@ _REWRITE = {
     "μs": "microsecond",
 }
 
-_CACHE_NAME = "units-v1.json"
+_CACHE_NAME = "units-v2.json"
+#: Unit names refused as ambiguous, with the hint shown.
+_AMBIGUOUS = {
+    "gr": "'gr' is a grain (64.8 mg) to the unit library but usually means grams: write 'g' for "
+          "grams (or 'grain' if you mean grains)",
+}
 _CACHE_LIMIT = 512
 _memo: dict[str, tuple[float, str]] = {}
 _memo_loaded = False
@@ -120,6 +141,19 @@ def _cache_dir() -> Path | None:
     return Path(base) / "clashcheck"
 
 
+def _rules_key() -> str:
+    """The cache key: package version and conversion rules, hashed."""
+    package = sys.modules.get(__name__.split(".")[0])
+    version = str(getattr(package, "__version__", "unknown"))
+    rules = json.dumps([version, _CACHE_NAME, sorted(_REWRITE.items())], ensure_ascii=True)
+    return hashlib.sha256(rules.encode("utf-8")).hexdigest()
+
+
+def _checksum(entries: dict[str, Any]) -> str:
+    text = json.dumps(entries, sort_keys=True, ensure_ascii=True)
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
 def _load_memo() -> None:
     global _memo_loaded
     _memo_loaded = True
@@ -127,9 +161,17 @@ def _load_memo() -> None:
     if folder is None:
         return
     try:
-        data = json.loads((folder / _CACHE_NAME).read_text(encoding="utf-8"))
-    except (OSError, ValueError):
+        raw = (folder / _CACHE_NAME).read_bytes()
+        if len(raw) > 1 << 20:
+            return
+        doc = json.loads(raw.decode("utf-8"))
+    except (OSError, ValueError, RecursionError):
         return
+    if not (isinstance(doc, dict) and doc.get("key") == _rules_key()
+            and isinstance(doc.get("entries"), dict)
+            and doc.get("checksum") == _checksum(doc["entries"])):
+        return  # other rules, or edited: recompute with pint
+    data = doc["entries"]
     if isinstance(data, dict):
         for key, val in data.items():
             if (
@@ -137,6 +179,8 @@ def _load_memo() -> None:
                 and isinstance(val, list)
                 and len(val) == 2
                 and isinstance(val[0], float)
+                and math.isfinite(val[0])
+                and val[0] != 0.0
                 and isinstance(val[1], str)
             ):
                 _memo[key] = (val[0], val[1])
@@ -154,7 +198,8 @@ def _save_memo() -> None:
         items = dict(list(_memo.items())[-_CACHE_LIMIT:])
         fd, tmp = tempfile.mkstemp(dir=folder, prefix=".units-", suffix=".tmp")
         with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            json.dump({k: list(v) for k, v in items.items()}, fh)
+            entries = {k: list(v) for k, v in items.items()}
+            json.dump({"key": _rules_key(), "checksum": _checksum(entries), "entries": entries}, fh)
         os.replace(tmp, folder / _CACHE_NAME)
     except OSError:
         pass
@@ -244,7 +289,7 @@ def parse(text: object, unit: str, field: str, *, example: str | None = None) ->
     ------
     InputError
         If the text is not a string, has the wrong form, names an unknown
-        unit, has the wrong dimension, or is not finite.
+        or ambiguous unit (``gr``), has the wrong dimension, or is not finite.
 
     Examples
     --------
@@ -263,7 +308,7 @@ def parse(text: object, unit: str, field: str, *, example: str | None = None) ->
         raise InputError(field, expected, text)
     if len(text) > _MAX_TEXT:
         raise InputError(field, expected, text, f"value strings are at most {_MAX_TEXT} characters")
-    match = _VALUE_RE.fullmatch(text)
+    match = _VALUE_RE.fullmatch(unicodedata.normalize("NFKC", text))
     if match is None:
         raise InputError(field, expected, text, "write a number, a space and a unit")
     number_text, unit_text = match.group(1), match.group(2)
@@ -276,6 +321,9 @@ def parse(text: object, unit: str, field: str, *, example: str | None = None) ->
             raise InputError(field, expected, text, "the unit is missing")
         factor, dim = 1.0, "dimensionless"
     else:
+        for name in _TOKEN_RE.findall(unit_text):
+            if name in _AMBIGUOUS:
+                raise InputError(field, expected, text, _AMBIGUOUS[name])
         try:
             factor, dim = conversion(unit_text)
         except KeyError:
