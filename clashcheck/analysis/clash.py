@@ -614,7 +614,21 @@ def _windows_of(
 
 
 def merge_windows(mode: str, windows: Sequence[Window]) -> tuple[DangerRange, ...]:
-    """Merge one mode's windows (all orders, all pack states) into danger ranges."""
+    """Merge one mode's windows (all orders, all pack states) into danger ranges.
+
+    Parameters
+    ----------
+    mode : str
+        Name of the mode the windows belong to.
+    windows : sequence of Window
+        That mode's clash windows (throttle edges as fractions).
+
+    Returns
+    -------
+    tuple of DangerRange
+        Danger ranges in rising throttle order; overlapping or touching windows
+        share a range.
+    """
     ranges: list[DangerRange] = []
     group: list[Window] = []
     for w in sorted(windows, key=lambda w: (w.throttle_low, w.throttle_high)):

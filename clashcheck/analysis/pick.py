@@ -204,7 +204,25 @@ class SearchSpace:
         return int(np.prod(self.shape))
 
     def parts(self, index: int) -> tuple[Motor, Propeller, int, str]:
-        """Motor (with its pole count), propeller, cell count and label of candidate ``index``."""
+        """Motor (with its pole count), propeller, cell count and label of candidate ``index``.
+
+        Parameters
+        ----------
+        index : int
+            Flat candidate index, from 0 to ``size - 1`` (row-major over motors,
+            poles, propellers and cell counts).
+
+        Returns
+        -------
+        tuple of (Motor, Propeller, int, str)
+            The motor (pole count applied when poles are searched), the propeller,
+            the cell count and a short label.
+
+        Raises
+        ------
+        InputError
+            When ``index`` is out of range.
+        """
         if not 0 <= index < self.size:
             raise InputError("candidate", f"an index from 0 to {self.size - 1}", index)
         mi, pi, ri, ci = (int(x) for x in np.unravel_index(index, self.shape))
@@ -221,6 +239,23 @@ def kv_variant(motor: Motor, kv_hz_per_v: float) -> Motor:
     Resistance scales as (Kv₀/Kv)² (same stator and copper fill: turns ∝ 1/Kv,
     wire area ∝ Kv; common practice); no-load current, poles, slots and mass
     are held.
+
+    Parameters
+    ----------
+    motor : Motor
+        The motor as catalogued.
+    kv_hz_per_v : float
+        The new speed constant Kv [Hz/V] (60 rpm/V = 1 Hz/V).
+
+    Returns
+    -------
+    Motor
+        A new motor with the new Kv and scaled resistance [Ω].
+
+    Raises
+    ------
+    InputError
+        When ``kv_hz_per_v`` is not a finite value above 0.
 
     Examples
     --------
@@ -282,7 +317,30 @@ def catalog_props(
     min_diameter_m: float | None = None,
     max_diameter_m: float | None = None,
 ) -> tuple[PropOption, ...]:
-    """Catalog propellers: the ``ids`` given, or all within a diameter range [m]."""
+    """Catalog propellers: the ``ids`` given, or all within a diameter range [m].
+
+    Parameters
+    ----------
+    ids : sequence of str or None, optional
+        Catalog propeller ids to take (duplicates dropped, order kept); all
+        catalog propellers when ``None`` or empty.
+    min_diameter_m : float or None, optional
+        Keep propellers at least this large in diameter [m]; no lower bound
+        when ``None``.
+    max_diameter_m : float or None, optional
+        Keep propellers at most this large in diameter [m]; no upper bound
+        when ``None``.
+
+    Returns
+    -------
+    tuple of PropOption
+        The kept propellers, each with its catalog id.
+
+    Raises
+    ------
+    InputError
+        When one of ``ids`` is not in the catalog.
+    """
     from ..inputs.buildfile import parse_prop
     from ..inputs.catalog import entry, load_catalog
 
@@ -468,6 +526,27 @@ def candidate_build(build, space: SearchSpace, index: int):
     mass (:func:`clashcheck.shift.shift_modes`).  A hover throttle stated in
     the build belongs to its own parts, so it is dropped when the candidate's
     propeller has a C_T (hover is then computed).
+
+    Parameters
+    ----------
+    build : clashcheck.model.build.Build
+        The base build the search started from.
+    space : SearchSpace
+        The search space the candidate belongs to.
+    index : int
+        Flat candidate index in ``space`` (see :meth:`SearchSpace.parts`).
+
+    Returns
+    -------
+    clashcheck.model.build.Build
+        The candidate build: parts, cell count, all-up mass [kg] and shifted
+        modes replaced; named after the base build and the candidate's label.
+
+    Raises
+    ------
+    InputError
+        When ``index`` is out of range or the adjusted all-up mass is not
+        above 0 kg.
     """
     motor, prop, cells, label = space.parts(index)
     mass = build.mass_kg
@@ -920,7 +999,20 @@ def _scatter_max(target, where, index, values, info, negate: bool = False):
 
 
 def rank(scores: Scores) -> np.ndarray:
-    """Candidate indices, best first (the ranking rule in the module notes)."""
+    """Candidate indices, best first (the ranking rule in the module notes).
+
+    Parameters
+    ----------
+    scores : Scores
+        Per-candidate scores of a search space.
+
+    Returns
+    -------
+    numpy.ndarray
+        Candidate indices (int), best first: candidates that fly, then with a
+        clear operating band, then with hover in range, then by lowest peak
+        response; ties by index.
+    """
     n = scores.flies.size
     return np.lexsort((np.arange(n), scores.response, ~scores.hover_in_range, ~scores.band_clear, ~scores.flies))
 

@@ -23,9 +23,45 @@ class Quantity(click.ParamType):
         self.name = "quantity"
 
     def get_metavar(self, param, ctx=None) -> str:  # keep the unit's case, e.g. 'rpm/V'
+        """The placeholder shown in help: the quoted example value.
+
+        Parameters
+        ----------
+        param : click.Parameter
+            The option being described (unused).
+        ctx : click.Context or None, optional
+            The click context (unused).
+
+        Returns
+        -------
+        str
+            The example in single quotes, e.g. ``"'1750 rpm/V'"``.
+        """
         return f"'{self.example}'"
 
     def convert(self, value, param, ctx):
+        """Parse an option value into a float in SI units.
+
+        Parameters
+        ----------
+        value : str or float
+            The value as typed (e.g. ``"1750 rpm/V"``), or a float default
+            already in SI units, passed through.
+        param : click.Parameter or None
+            The option; its first flag names the value in error messages.
+        ctx : click.Context or None
+            The click context, for the usage error.
+
+        Returns
+        -------
+        float
+            The value in SI base units, rotation in cycles (rpm/V → Hz/V).
+
+        Raises
+        ------
+        click.BadParameter
+            When the text does not parse or has the wrong dimension.
+        """
         if isinstance(value, float):  # a default given in SI
             return value
         from ..errors import InputError
@@ -43,6 +79,28 @@ class Counts(click.ParamType):
     name = "N,N,..."
 
     def convert(self, value, param, ctx):
+        """Parse a comma-separated list of whole numbers.
+
+        Parameters
+        ----------
+        value : str or tuple of int
+            The text as typed (e.g. ``"4,6"``), or a tuple default, passed
+            through.
+        param : click.Parameter or None
+            The option, for the usage error.
+        ctx : click.Context or None
+            The click context, for the usage error.
+
+        Returns
+        -------
+        tuple of int
+            The numbers, in the order given (dimensionless counts).
+
+        Raises
+        ------
+        click.BadParameter
+            When a part is not a whole number or the list is empty.
+        """
         if isinstance(value, tuple):
             return value
         try:
@@ -55,6 +113,22 @@ class Counts(click.ParamType):
 
 
 def emit(text: str, output: Path | None, inputs) -> None:
+    """Print a report, or write it atomically to a file.
+
+    Parameters
+    ----------
+    text : str
+        The rendered report.
+    output : pathlib.Path or None
+        File to write; ``None`` prints to standard output.
+    inputs : iterable of str or pathlib.Path
+        The command's input files; ``output`` may not be one of them.
+
+    Raises
+    ------
+    OutputError
+        When ``output`` is an input, a folder, or cannot be written.
+    """
     from ..files import write_output
 
     if output is not None:

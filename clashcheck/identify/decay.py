@@ -121,7 +121,19 @@ class ModelFit:
     amplitude_ref: float = 0.0
 
     def damping(self, amplitude: np.ndarray | float) -> np.ndarray:
-        """ζ at ``amplitude`` [signal units] under this model."""
+        """ζ at ``amplitude`` [signal units] under this model.
+
+        Parameters
+        ----------
+        amplitude : float or numpy.ndarray
+            Vibration amplitude(s) [signal units, as recorded]; above 0 for the
+            friction-viscous and power-law models.
+
+        Returns
+        -------
+        numpy.ndarray
+            Damping ratio ζ (dimensionless), with the shape of ``amplitude``.
+        """
         a = np.asarray(amplitude, dtype=float)
         if self.model == "viscous":
             return np.full_like(a, self.params[0])

@@ -99,6 +99,20 @@ def sweep_throttle(low: float = 0.2, high: float = 0.85, period_s: float = 40.0)
 
     Returns a function of time [s] giving throttle; a smooth raised-cosine
     sweep up and down with a period of ``period_s``.
+
+    Parameters
+    ----------
+    low : float, optional
+        Lowest throttle [fraction]; default 0.2.
+    high : float, optional
+        Highest throttle [fraction]; default 0.85.
+    period_s : float, optional
+        Period of one sweep up and down [s]; default 40.
+
+    Returns
+    -------
+    callable
+        ``profile(t_s)``: throttle [fraction] at times ``t_s`` [s] (array).
     """
 
     def profile(t_s: np.ndarray) -> np.ndarray:
@@ -113,6 +127,20 @@ def step_throttle(levels: Sequence[float] = (0.25, 0.45, 0.65, 0.85, 0.55, 0.35)
 
     The levels repeat cyclically; ramps are raised-cosine.  Returns a function
     of time [s] giving throttle (fraction).
+
+    Parameters
+    ----------
+    levels : sequence of float, optional
+        Throttle levels [fraction], visited in order and repeated.
+    dwell_s : float, optional
+        Time each level is held [s]; default 6.
+    ramp_s : float, optional
+        Duration of each ramp to the next level [s]; default 2.
+
+    Returns
+    -------
+    callable
+        ``profile(t_s)``: throttle [fraction] at times ``t_s`` [s] (array).
     """
     lv = np.asarray(levels, dtype=float)
     period = dwell_s + ramp_s
@@ -130,7 +158,20 @@ def step_throttle(levels: Sequence[float] = (0.25, 0.45, 0.65, 0.85, 0.55, 0.35)
 
 
 def linear_rotor(idle_hz: float = 20.0, span_hz: float = 380.0) -> Callable:
-    """Rotor rate [Hz] = ``idle_hz`` + ``span_hz`` × throttle (a stand-in drive model)."""
+    """Rotor rate [Hz] = ``idle_hz`` + ``span_hz`` × throttle (a stand-in drive model).
+
+    Parameters
+    ----------
+    idle_hz : float, optional
+        Rotor rate at zero throttle [Hz]; default 20.
+    span_hz : float, optional
+        Rise in rotor rate from zero to full throttle [Hz]; default 380.
+
+    Returns
+    -------
+    callable
+        ``rotor(throttle)``: rotor rate [Hz] for throttle [fraction] (array).
+    """
 
     def rotor(throttle: np.ndarray) -> np.ndarray:
         return idle_hz + span_hz * np.asarray(throttle)
@@ -348,7 +389,17 @@ def flight_blocks(
 
 
 def write_tap_wav(path: str | os.PathLike[str], samples: np.ndarray, sample_rate_hz: float) -> None:
-    """Write a tap recording (full scale 1.0) as a 16-bit PCM WAV file."""
+    """Write a tap recording (full scale 1.0) as a 16-bit PCM WAV file.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        File to write (atomically).
+    samples : numpy.ndarray
+        The signal, full scale ±1.0; values beyond it are clipped.
+    sample_rate_hz : float
+        Sample rate [Hz], rounded to a whole number in the file header.
+    """
     from scipy.io import wavfile
 
     data = np.clip(np.round(np.asarray(samples) * 32768.0), -32768, 32767).astype(np.int16)
@@ -370,6 +421,26 @@ def write_flight_csv(
     Columns: time [s], one per axis, throttle (fraction), rotor rate [rpm];
     ``None`` leaves a column out.  ``signal_format`` is the printf format of
     the signal columns.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        File to write (atomically).
+    blocks : iterator of dict
+        Blocks with ``time_s`` [s], ``signals`` (samples × axes, recording
+        units), ``throttle`` [fraction] and ``rotor_hz`` [Hz] arrays, as the
+        flight generator yields them.
+    axis_names : sequence of str, optional
+        Header names of the signal columns, one per axis.
+    throttle_column : str or None, optional
+        Header of the throttle column [fraction]; ``None`` leaves it out.
+    rpm_column : str or None, optional
+        Header of the rotor-rate column, written in rpm (rotor_hz × 60);
+        ``None`` leaves it out.
+    time_column : str or None, optional
+        Header of the time column [s]; ``None`` leaves it out.
+    signal_format : str, optional
+        The printf format of the signal columns; default ``"%.4f"``.
     """
     names: list[str] = []
     if time_column:

@@ -114,7 +114,32 @@ def _merge_catalog(raw: dict[str, Any], kind: str, where: str, keys: tuple[str, 
 
 
 def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
-    """One ``[[frame.modes]]`` table → :class:`~clashcheck.modes.Mode`."""
+    """One ``[[frame.modes]]`` table → :class:`~clashcheck.modes.Mode`.
+
+    Parameters
+    ----------
+    raw : dict
+        The table as read from TOML: ``name``, ``frequency`` (a quantity
+        string such as ``"212 Hz"``), optional ``damping`` (ratio), ``axis``,
+        ``kind``, ``source``, ``frequency_low``/``frequency_high`` [Hz] and the
+        measurement keys.
+    where : str
+        Field path of the table (e.g. ``"frame.modes[0]"``), for error messages.
+    origin : str
+        Origin stamped on the mode: catalog, measured, estimated, manual or
+        shifted.
+
+    Returns
+    -------
+    Mode
+        The mode, frequencies in Hz, damping as a ratio.
+
+    Raises
+    ------
+    InputError
+        On an unknown key, a missing name or frequency, or a value of the
+        wrong unit or out of range.
+    """
     f.check_keys(raw, _MODE_KEYS + _AMPLITUDE_KEYS, where)
     name = f.text(raw, "name", where, required=True)
     assert name is not None
@@ -266,7 +291,29 @@ def _parse_frame(raw: dict[str, Any]) -> tuple[int, float, list[Mode], dict[str,
 
 
 def parse_motor(raw: dict[str, Any]) -> Motor:
-    """A ``[motor]`` table (or ``{"catalog": id}`` plus overrides) → :class:`~clashcheck.motor.Motor`."""
+    """A ``[motor]`` table (or ``{"catalog": id}`` plus overrides) → :class:`~clashcheck.motor.Motor`.
+
+    Parameters
+    ----------
+    raw : dict
+        The table as read from TOML: ``kv`` (e.g. ``"1750 rpm/V"``),
+        ``poles``, ``slots``, optional ``resistance``, ``no_load_current``,
+        ``mass``, ``stator``, ``description``; or ``catalog = id`` plus any of
+        these as overrides.
+
+    Returns
+    -------
+    Motor
+        The motor in SI: Kv [Hz/V], resistance [Ω], no-load current [A],
+        mass [kg].
+
+    Raises
+    ------
+    InputError
+        On an unknown key or catalog id, a missing required key, an odd pole
+        count, a slot count not a multiple of 3, or a value of the wrong unit
+        or out of range.
+    """
     where = "motor"
     raw = _merge_catalog(raw, "motors", where, _MOTOR_KEYS)
     kv = f.quantity(raw, "kv", where, "rpm/V", "1750 rpm/V", required=True, minimum=1 / 60,
@@ -290,7 +337,28 @@ def parse_motor(raw: dict[str, Any]) -> Motor:
 
 
 def parse_prop(raw: dict[str, Any]) -> Propeller:
-    """A ``[prop]`` table (or ``{"catalog": id}`` plus overrides) → :class:`~clashcheck.propeller.Propeller`."""
+    """A ``[prop]`` table (or ``{"catalog": id}`` plus overrides) → :class:`~clashcheck.propeller.Propeller`.
+
+    Parameters
+    ----------
+    raw : dict
+        The table as read from TOML: ``diameter`` (e.g. ``"5.1 in"``),
+        ``blades``, optional ``pitch``, ``thrust_coefficient``,
+        ``power_coefficient``, ``mass``, ``description``; or ``catalog = id``
+        plus any of these as overrides.
+
+    Returns
+    -------
+    Propeller
+        The propeller in SI: diameter and pitch [m], mass [kg], C_T and C_P
+        dimensionless.
+
+    Raises
+    ------
+    InputError
+        On an unknown key or catalog id, a missing required key, or a value
+        of the wrong unit or out of range.
+    """
     where = "prop"
     raw = _merge_catalog(raw, "props", where, _PROP_KEYS)
     diameter = f.quantity(raw, "diameter", where, "m", "5.1 in", required=True, minimum=0.01, maximum=2.0,
@@ -549,6 +617,22 @@ def parse_build(data: dict[str, Any], *, path: str | None = None) -> Build:
 
 def load_build(path: str | Path) -> Build:
     """Read and validate a build file.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The build file (TOML, UTF-8); it is only read.
+
+    Returns
+    -------
+    Build
+        The validated build, in SI units.
+
+    Raises
+    ------
+    InputError
+        When the file cannot be read, is not a UTF-8 TOML file of bounded
+        size, or a field is missing, unknown or out of range.
 
     Examples
     --------

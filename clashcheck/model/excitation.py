@@ -322,6 +322,19 @@ def fold(freq_hz, sample_rate_hz: float):
 
     f_app = |f − fs·round(f/fs)|, which lies in [0, fs/2].
 
+    Parameters
+    ----------
+    freq_hz : float or array_like
+        True frequency (or frequencies) [Hz].
+    sample_rate_hz : float
+        Sensor sample rate fs [Hz].
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Apparent frequency [Hz] in [0, fs/2], a float for a scalar input, else
+        an array of the same shape.
+
     Examples
     --------
     >>> float(fold(1400.0, 1000.0))
@@ -335,7 +348,21 @@ def fold(freq_hz, sample_rate_hz: float):
 
 
 def nyquist_zone(freq_hz, sample_rate_hz: float):
-    """Nyquist zone k = floor(f / (fs/2)); zone 0 is the sensor's own band."""
+    """Nyquist zone k = floor(f / (fs/2)); zone 0 is the sensor's own band.
+
+    Parameters
+    ----------
+    freq_hz : float or array_like
+        True frequency (or frequencies) [Hz].
+    sample_rate_hz : float
+        Sensor sample rate fs [Hz].
+
+    Returns
+    -------
+    int or numpy.ndarray
+        Nyquist zone index k (0 or more), an int for a scalar input, else an
+        integer array of the same shape.
+    """
     f = np.asarray(freq_hz, dtype=float)
     out = np.floor(f / (0.5 * sample_rate_hz)).astype(int)
     return int(out) if out.ndim == 0 else out
@@ -384,6 +411,21 @@ def antialias_gain(freq_hz, cutoff_hz: float | None, order: int = 2):
     """Magnitude of a Butterworth low-pass of ``order`` at ``freq_hz``.
 
     |H(f)| = 1/√(1 + (f/fc)^(2n)); 1 when there is no filter.
+
+    Parameters
+    ----------
+    freq_hz : float or array_like
+        Frequency (or frequencies) [Hz].
+    cutoff_hz : float or None
+        Filter cutoff fc [Hz]; ``None`` for no filter.
+    order : int, optional
+        Filter order n (roll-off 20·n dB/decade); default 2.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Gain |H(f)| (dimensionless, 0 < gain ≤ 1), a float for a scalar input,
+        else an array of the same shape.
     """
     f = np.asarray(freq_hz, dtype=float)
     if cutoff_hz is None:
@@ -424,5 +466,17 @@ class Sensor:
         return 0.5 * self.sample_rate_hz
 
     def gain(self, freq_hz):
-        """Anti-alias filter gain at ``freq_hz`` (1 without a filter)."""
+        """Anti-alias filter gain at ``freq_hz`` (1 without a filter).
+
+        Parameters
+        ----------
+        freq_hz : float or array_like
+            Frequency (or frequencies) [Hz].
+
+        Returns
+        -------
+        float or numpy.ndarray
+            Gain |H(f)| (dimensionless, 0 < gain ≤ 1), a float for a scalar input,
+            else an array of the same shape.
+        """
         return antialias_gain(freq_hz, self.antialias_cutoff_hz, self.antialias_order)

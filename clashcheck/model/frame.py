@@ -342,13 +342,37 @@ class FrameModel:
         return self.layout.root_radius_m + self.arm.length_m
 
     def with_clamp(self, stiffness_n_m_per_rad: float | None) -> "FrameModel":
-        """The same frame with another root-spring stiffness (``None`` for rigid)."""
+        """The same frame with another root-spring stiffness (``None`` for rigid).
+
+        Parameters
+        ----------
+        stiffness_n_m_per_rad : float or None
+            Rotational stiffness of the arm-root spring [N·m/rad]; ``None`` for a
+            rigid clamp.  Any effective-length factor of the arm is cleared.
+
+        Returns
+        -------
+        FrameModel
+            A new frame model; ``self`` is unchanged.
+        """
         arm = replace(self.arm, clamp_stiffness_n_m_per_rad=stiffness_n_m_per_rad,
                       effective_length_factor=None)
         return replace(self, arm=arm)
 
     def with_modulus(self, modulus_pa: float) -> "FrameModel":
-        """The same frame with another Young's modulus (G scaled in proportion)."""
+        """The same frame with another Young's modulus (G scaled in proportion).
+
+        Parameters
+        ----------
+        modulus_pa : float
+            Young's modulus E of the arm material [Pa]; the material's low/high
+            bounds widen to include it if needed.
+
+        Returns
+        -------
+        FrameModel
+            A new frame model; ``self`` is unchanged.
+        """
         mat: Material = self.arm.material
         shear = self.shear_modulus_pa * modulus_pa / mat.modulus_pa
         new = replace(mat, modulus_pa=modulus_pa, modulus_low_pa=min(mat.modulus_low_pa, modulus_pa),

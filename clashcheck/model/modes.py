@@ -105,6 +105,16 @@ class Mode:
 def amplification_factor(damping: float) -> float:
     """Amplification factor AF = 1/(2ζ) of a single mode.
 
+    Parameters
+    ----------
+    damping : float
+        Damping ratio ζ of the mode (dimensionless, 0 < ζ < 1).
+
+    Returns
+    -------
+    float
+        Amplification factor AF (dimensionless).
+
     Examples
     --------
     >>> amplification_factor(0.05)
@@ -118,6 +128,17 @@ def api_margin_below(af):
 
     SM = 0 when AF < 2.5, else min(16 %, 17 %·(1 − 1/(AF − 1.5))), as a
     fraction.  Takes a float or an array.
+
+    Parameters
+    ----------
+    af : float or numpy.ndarray
+        Amplification factor(s) AF of the mode (dimensionless).
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Required separation margin [fraction], a float for a scalar ``af``,
+        else an array of the same shape.
 
     Examples
     --------
@@ -139,6 +160,17 @@ def api_margin_above(af):
     """Required separation margin for a mode above the operating range.
 
     SM = 0 when AF < 2.5, else min(26 %, 10 % + 17 %·(1 − 1/(AF − 1.5))).
+
+    Parameters
+    ----------
+    af : float or numpy.ndarray
+        Amplification factor(s) AF of the mode (dimensionless).
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Required separation margin [fraction], a float for a scalar ``af``,
+        else an array of the same shape.
 
     Examples
     --------
@@ -181,6 +213,17 @@ class MarginPolicy:
         gave only an upper bound (``details["damping_high"]``, e.g. a peak
         narrower than the resolution), the smaller of the two is used, since
         less damping asks for more margin.
+
+        Parameters
+        ----------
+        mode : Mode
+            The frame mode whose damping ratio is wanted.
+
+        Returns
+        -------
+        tuple of (float, bool)
+            Damping ratio ζ used (dimensionless) and ``True`` when it was assumed
+            (default or upper bound) rather than given by the mode.
         """
         if mode.damping is None:
             bound = mode.details.get("damping_high")
@@ -190,11 +233,34 @@ class MarginPolicy:
         return mode.damping, False
 
     def required_margin(self, mode: Mode) -> float:
-        """Required relative margin for ``mode``, as a fraction."""
+        """Required relative margin for ``mode``, as a fraction.
+
+        Parameters
+        ----------
+        mode : Mode
+            The frame mode; its damping (or the assumed one) sets the margin.
+
+        Returns
+        -------
+        float
+            Required relative margin [fraction] (0.10 = 10 %).
+        """
         return float(self.margin_for_damping(self.damping_of(mode)[0]))
 
     def margin_for_damping(self, damping):
-        """Required margin [fraction] for damping ratio(s) ``damping`` (float or array)."""
+        """Required margin [fraction] for damping ratio(s) ``damping`` (float or array).
+
+        Parameters
+        ----------
+        damping : float or numpy.ndarray
+            Damping ratio(s) ζ (dimensionless, 0 < ζ < 1).
+
+        Returns
+        -------
+        float or numpy.ndarray
+            Required margin(s) [fraction] under this policy, a float for a scalar
+            ``damping``, else an array of the same shape.
+        """
         z = np.asarray(damping, dtype=float)
         if self.name == "fixed":
             assert self.fixed_margin is not None
@@ -212,6 +278,20 @@ def magnification(r: np.ndarray | float, damping: float) -> np.ndarray | float:
     M(r) = 1/√((1 − r²)² + (2ζr)²), with r = f/f_n (Rao, *Mechanical
     Vibrations* 5th ed. §3.4).
 
+    Parameters
+    ----------
+    r : float or numpy.ndarray
+        Frequency ratio(s) f/f_n of excitation to natural frequency
+        (dimensionless).
+    damping : float
+        Damping ratio ζ (dimensionless).
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Dynamic magnification M (dimensionless), a float for a scalar ``r``,
+        else an array of the same shape.
+
     Examples
     --------
     >>> round(float(magnification(1.0, 0.05)), 6)
@@ -226,6 +306,20 @@ def transmissibility(r: np.ndarray | float, damping: float) -> np.ndarray | floa
     """Single-degree-of-freedom transmissibility TR(r).
 
     TR(r) = √((1 + (2ζr)²)/((1 − r²)² + (2ζr)²)) (Rao §3.6).
+
+    Parameters
+    ----------
+    r : float or numpy.ndarray
+        Frequency ratio(s) f/f_n of excitation to natural frequency
+        (dimensionless).
+    damping : float
+        Damping ratio ζ (dimensionless).
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Transmissibility TR (dimensionless), a float for a scalar ``r``, else
+        an array of the same shape.
     """
     r = np.asarray(r, dtype=float)
     two_zr = (2.0 * damping * r) ** 2
@@ -239,6 +333,20 @@ def relative_margin(freq_hz: np.ndarray | float, mode: Mode) -> np.ndarray | flo
     For a point mode this is |f − f_m|/f_m.  For a mode with a range it is 0
     inside the range and the distance to the nearer edge, relative to that
     edge, outside it.
+
+    Parameters
+    ----------
+    freq_hz : float or numpy.ndarray
+        Excitation frequency (or frequencies) [Hz].
+    mode : Mode
+        The frame mode; its ``frequency_low_hz`` .. ``frequency_high_hz``
+        range is the reference.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Relative margin [fraction] (0 inside the mode's range), a float for a
+        scalar ``freq_hz``, else an array of the same shape.
     """
     f = np.asarray(freq_hz, dtype=float)
     lo, hi = mode.frequency_low_hz, mode.frequency_high_hz

@@ -89,6 +89,16 @@ class Reconciliation:
 def axes_compatible(a: str, b: str) -> bool:
     """True when two mode axes can be the same physical mode (equal, or either ``any``).
 
+    Parameters
+    ----------
+    a, b : str
+        Mode axes: roll, pitch, yaw or any.
+
+    Returns
+    -------
+    bool
+        ``True`` when the axes are equal or either is ``any``.
+
     Examples
     --------
     >>> axes_compatible("roll", "any"), axes_compatible("roll", "pitch")

@@ -214,7 +214,19 @@ def finding_text(kind: str, pack_state: str, hover_throttle: float) -> str:
 
 
 def result_to_dict(result: ClashResult) -> dict[str, Any]:
-    """The JSON document of a check (stable keys; see the README)."""
+    """The JSON document of a check (stable keys; see the README).
+
+    Parameters
+    ----------
+    result : ClashResult
+        The result of a clash check.
+
+    Returns
+    -------
+    dict
+        JSON-ready document with ``schema_version``; frequencies in ``*_hz``
+        keys [Hz], throttle and margins as fractions.
+    """
     sensor = None
     if result.sensor is not None:
         sensor = {
@@ -307,7 +319,18 @@ def result_to_dict(result: ClashResult) -> dict[str, Any]:
 
 
 def render_json(result: ClashResult) -> str:
-    """The check result as JSON text."""
+    """The check result as JSON text.
+
+    Parameters
+    ----------
+    result : ClashResult
+        The result of a clash check.
+
+    Returns
+    -------
+    str
+        JSON text of :func:`result_to_dict`.
+    """
     return dump_json(result_to_dict(result))
 
 
@@ -487,7 +510,18 @@ def _reason_lines(result: ClashResult) -> list[str]:
 
 
 def render_table(result: ClashResult) -> str:
-    """Plain-text report for a terminal."""
+    """Plain-text report for a terminal.
+
+    Parameters
+    ----------
+    result : ClashResult
+        The result of a clash check.
+
+    Returns
+    -------
+    str
+        Plain text, ending with the verdict line and the safety cautions.
+    """
     from tabulate import tabulate
 
     parts = [f"clashcheck: {result.name}", ""]
@@ -515,6 +549,19 @@ def render_markdown(result: ClashResult, extra_sections: Iterable[str] = ()) -> 
 
     ``extra_sections`` (Markdown text, each starting with its ``##`` heading)
     are placed after the danger ranges and before the safety section.
+
+    Parameters
+    ----------
+    result : ClashResult
+        The result of a clash check.
+    extra_sections : iterable of str, optional
+        Extra Markdown sections, each starting with its ``##`` heading;
+        none by default.
+
+    Returns
+    -------
+    str
+        Markdown text, ending with the safety section.
     """
     from tabulate import tabulate
 
@@ -541,7 +588,21 @@ def render_markdown(result: ClashResult, extra_sections: Iterable[str] = ()) -> 
 
 
 def render(result: ClashResult, fmt: str) -> str:
-    """Render in ``table``, ``json`` or ``markdown``."""
+    """Render in ``table``, ``json`` or ``markdown``.
+
+    Parameters
+    ----------
+    result : ClashResult
+        The result of a clash check.
+    fmt : str
+        ``"json"`` or ``"markdown"``; any other value gives the plain-text
+        table.
+
+    Returns
+    -------
+    str
+        The rendered report.
+    """
     if fmt == "json":
         return render_json(result)
     if fmt == "markdown":

@@ -748,7 +748,20 @@ def render_check_with_suggestions(result, suggestions, fmt: str) -> str:
 
 
 def build_summary_rows(build) -> list[list[str]]:
-    """The parts of a build, one row per part, for a report."""
+    """The parts of a build, one row per part, for a report.
+
+    Parameters
+    ----------
+    build : clashcheck.model.build.Build
+        The build that was checked.
+
+    Returns
+    -------
+    list of list of str
+        ``[part, description]`` rows (frame, motor, propeller, battery, flight,
+        and sensor when the build has one), with figures in display units
+        (rpm/V, g, mΩ, in, m, Hz).
+    """
     m, p, pack = build.motor, build.prop, build.pack
     rows = [
         ["frame", f"{build.motors} motors, all-up mass {1e3 * build.mass_kg:.0f} g, {len(build.modes)} mode(s)"],
@@ -770,7 +783,22 @@ def build_summary_rows(build) -> list[list[str]]:
 
 
 def image_reference(image_path: str | Path, report_path: str | Path | None) -> str:
-    """How the report refers to the diagram: relative to the report's folder when it is written to a file."""
+    """How the report refers to the diagram: relative to the report's folder when it is written to a file.
+
+    Parameters
+    ----------
+    image_path : str or pathlib.Path
+        Path of the diagram image.
+    report_path : str or pathlib.Path or None
+        Path the report is written to; ``None`` when it goes to the terminal.
+
+    Returns
+    -------
+    str
+        POSIX-style path: ``image_path`` as given when ``report_path`` is
+        ``None``, else relative to the report's folder (absolute when no
+        relative path exists, e.g. another drive).
+    """
     image = Path(image_path)
     if report_path is None:
         return image.as_posix()
