@@ -30,7 +30,6 @@ import numpy as np
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from clashcheck.analysis.clash import check_build  # noqa: E402
 from clashcheck.analysis.pick import (  # noqa: E402
     candidate_build,
     pick,
@@ -38,45 +37,15 @@ from clashcheck.analysis.pick import (  # noqa: E402
     search_space,
 )
 from clashcheck.inputs.buildfile import load_build  # noqa: E402
-from clashcheck.model.excitation import fold  # noqa: E402
-from clashcheck.model.modes import magnification  # noqa: E402
 
-
-def _peak_m(x_lo, x_hi, mode, zeta):
-    r_lo, r_hi = x_lo / mode.frequency_high_hz, x_hi / mode.frequency_low_hz
-    r_p = math.sqrt(max(1.0 - 2.0 * zeta * zeta, 0.0))
-    points = [r_lo, r_hi] + ([r_p] if r_lo <= r_p <= r_hi else [])
-    return max(float(magnification(r, zeta)) for r in points)
+sys.path.insert(0, str(ROOT / "tests"))
+from _reference_scorer import reference_score  # noqa: E402  (the tests' reference, shared)
 
 
 def brute_force(cand):
     """(flies, band clear, peak weighted response) of one candidate, one scalar at a time."""
-    result = check_build(cand)
-    drive = cand.drive()
-    sensor = cand.sensor
-    floor = cand.check.weight_floor
-    response = -math.inf
-    for band in result.bands:
-        if not band.flies:
-            continue
-        for mode in cand.modes:
-            zeta, _ = cand.check.policy.damping_of(mode)
-            for o in result.orders:
-                x_lo = o.order * float(drive.rotor_hz(band.throttle_low, band.pack_state))
-                x_hi = o.order * float(drive.rotor_hz(band.throttle_high, band.pack_state))
-                response = max(response, o.weight * _peak_m(x_lo, x_hi, mode, zeta))
-                if sensor is None:
-                    continue
-                nyq = sensor.nyquist_hz
-                for zone in range(max(1, int(x_lo // nyq)), int(x_hi // nyq) + 1):
-                    t_lo, t_hi = max(x_lo, zone * nyq), min(x_hi, (zone + 1) * nyq)
-                    w = o.weight * float(sensor.gain(t_lo))
-                    if t_lo > t_hi or w < floor:
-                        continue
-                    a, b = sorted((fold(t_lo, sensor.sample_rate_hz), fold(t_hi, sensor.sample_rate_hz)))
-                    response = max(response, w * _peak_m(a, b, mode, zeta))
-    flies = all(b.flies for b in result.bands)
-    return flies, result.verdict != "clash", response if math.isfinite(response) else math.inf
+    row = reference_score(cand)
+    return row["flies"], row["band_clear"], row["response"]
 
 
 def main(argv=None) -> int:

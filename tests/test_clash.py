@@ -327,8 +327,11 @@ def test_cannot_hover_at_the_empty_pack_is_a_finding():
     assert full_need < empty_need
     result = _result([Mode("a", 186.0, damping=0.03)], mass=mass, drive=drive)
     empty = next(b for b in result.bands if b.pack_state == "empty")
-    assert not empty.flies
-    assert any("cannot hover at the empty pack" in n for n in result.notes)
+    assert not empty.flies and empty.dwell == ()
+    # a finding of its own, at clash level (issue 10): the verdict is clash whatever the windows say
+    assert [(f.kind, f.level, f.pack_state) for f in result.findings] == [("cannot_hover", "clash", "empty")]
+    assert result.findings[0].hover_throttle > 1.0
+    assert result.verdict == "clash"
     assert not any(m.pack_state == "empty" for m in result.modes[0].margins)
 
 
@@ -395,4 +398,4 @@ def test_note_when_rotor_rate_peaks_before_max_throttle():
     rate = drive.rotor_hz(grid, "full")
     assert np.any(np.diff(rate) < 0)  # the premise: the rate does fall somewhere
     notes = check_build(build).notes
-    assert any("peaks near" in n and "full pack" in n for n in notes)
+    assert any("peaks at" in n and "full pack" in n and "both sides" in n for n in notes)

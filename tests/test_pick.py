@@ -1,17 +1,20 @@
 """Tests for clashcheck.analysis.pick: candidate search, vectorised scoring, ranking.
 
-The reference is a plain Python loop in this file: for every candidate it
-builds the candidate with ``dataclasses.replace``, shifts the arm modes with
-the analytic single-degree-of-freedom ratio written out here, runs the core
-engine's full ``check_build`` (exact clash windows) and computes the peak
-weighted response over the operating band with scalar arithmetic.  The
+The reference is a plain Python loop: for every candidate it builds the
+candidate with ``dataclasses.replace``, shifts the arm modes with the analytic
+single-degree-of-freedom ratio written out here, and scores it with
+``tests/_reference_scorer.py`` (shared with ``bench/bench_pick.py``), which runs
+the core engine's full ``check_build`` (exact clash windows) and computes the
+peak weighted response over the operating band with scalar arithmetic.  The
 vectorised search must agree with it exactly (same flags, same ranking).
 """
 
 from __future__ import annotations
 
 import math
+import sys
 import tomllib
+from pathlib import Path
 from dataclasses import replace
 
 import numpy as np
@@ -32,14 +35,17 @@ from clashcheck.analysis.pick import (
 from clashcheck.cli import main
 from clashcheck.errors import InputError
 from clashcheck.inputs.buildfile import parse_build, parse_prop
-from clashcheck.model.excitation import build_orders, fold
+from clashcheck.model.excitation import build_orders
 from clashcheck.model.modes import magnification
 
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _reference_scorer import peak_m, reference_score  # noqa: E402  (shared with bench/bench_pick.py)
+
 # Invented test frame (fixture data, not a reference).  The low-rate 700 Hz
-# sensor has no anti-alias filter, so aliased lines matter (they give the peak
-# response for most candidates); one mode has no damping figure (assumed); two
-# are arm modes that shift with the tip mass.  On 4 cells a few candidates keep
-# the operating band clear, so both sides of the first ranking key occur.
+# sensor has a gentle anti-alias filter at 250 Hz, so aliased lines matter
+# (they give the peak response for some candidates); one mode has no damping
+# figure (assumed); two are arm modes that shift with the tip mass.  A few
+# candidates are not `clash`, so both sides of the first ranking key occur.
 FRAME = """
 name = "test frame"
 [frame]
@@ -73,6 +79,7 @@ cells = 6
 cell_resistance = "3 mohm"
 [sensor]
 sample_rate = "700 Hz"
+antialias_cutoff = "250 Hz"
 [flight]
 idle = "4 %"
 cruise = "45 %"
@@ -151,50 +158,8 @@ def _reference_candidate(base, kv_hz, poles, prop, cells):
                    modes=tuple(modes), flight=flight)
 
 
-def _peak_m(x_lo, x_hi, mode, zeta):
-    """Largest M over f in [x_lo, x_hi], f_m in the mode's range: M has one peak at r_p = √(1 − 2ζ²)
-    (Rao §3.4), so check the interval ends and r_p when it lies inside."""
-    r_lo, r_hi = x_lo / mode.frequency_high_hz, x_hi / mode.frequency_low_hz
-    r_p = math.sqrt(max(1.0 - 2.0 * zeta * zeta, 0.0))
-    points = [r_lo, r_hi] + ([r_p] if r_lo <= r_p <= r_hi else [])
-    return max(float(magnification(r, zeta)) for r in points)
 
 
-def _reference_score(cand):
-    result = check_build(cand)
-    drive = cand.drive()
-    sensor = cand.sensor
-    floor = cand.check.weight_floor
-    orders = build_orders(cand.motor, cand.prop, cand.check.families)
-    response = -math.inf
-    for band in result.bands:
-        if not band.flies:
-            continue
-        for mode in cand.modes:
-            zeta, _ = cand.check.policy.damping_of(mode)
-            for o in orders:
-                x_lo = o.order * float(drive.rotor_hz(band.throttle_low, band.pack_state))
-                x_hi = o.order * float(drive.rotor_hz(band.throttle_high, band.pack_state))
-                response = max(response, o.weight * _peak_m(x_lo, x_hi, mode, zeta))
-                if sensor is None:
-                    continue
-                nyq = sensor.nyquist_hz
-                for zone in range(max(1, int(x_lo // nyq)), int(x_hi // nyq) + 1):
-                    t_lo, t_hi = max(x_lo, zone * nyq), min(x_hi, (zone + 1) * nyq)
-                    w = o.weight * float(sensor.gain(t_lo))
-                    if t_lo > t_hi or w < floor:
-                        continue
-                    a, b = sorted((fold(t_lo, sensor.sample_rate_hz), fold(t_hi, sensor.sample_rate_hz)))
-                    response = max(response, w * _peak_m(a, b, mode, zeta))
-    flies = all(b.flies for b in result.bands)
-    hovers = [b.hover.throttle for b in result.bands]
-    return {
-        "flies": flies,
-        "band_clear": result.verdict != "clash",
-        "in_range": all(0.25 <= h <= 0.50 for h in hovers),
-        "response": response if math.isfinite(response) else math.inf,
-        "hover": hovers,
-    }
 
 
 def _brute_force(base, kvs, poles_list, props, cells_list):
@@ -203,7 +168,7 @@ def _brute_force(base, kvs, poles_list, props, cells_list):
         for poles in poles_list:
             for prop in props:
                 for cells in cells_list:
-                    rows.append(_reference_score(_reference_candidate(base, kv, poles, prop, cells)))
+                    rows.append(reference_score(_reference_candidate(base, kv, poles, prop, cells)))
     return rows
 
 
@@ -265,7 +230,7 @@ def test_peak_response_is_the_maximum_over_the_band():
             for o in build_orders(cand.motor, cand.prop, cand.check.families):
                 m = o.weight * magnification(o.order * rotor / mode.frequency_hz, zeta)
                 dense = max(dense, float(np.max(m)))
-                closed = max(closed, o.weight * _peak_m(o.order * rotor[0], o.order * rotor[-1], mode, zeta))
+                closed = max(closed, o.weight * peak_m(o.order * rotor[0], o.order * rotor[-1], mode, zeta))
     assert dense <= closed * (1 + 1e-12)
     assert dense == pytest.approx(closed, rel=2e-3)
 

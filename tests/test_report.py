@@ -81,7 +81,7 @@ def test_json_has_no_nan_when_the_craft_cannot_hover(base_build):
     data = _strict_json(render_json(result))
     assert data["hover"]["empty"]["can_hover"] is False
     assert data["operating_band"]["empty"]["throttle_low"] is None
-    assert any("cannot hover" in n for n in data["notes"])
+    assert {"kind": "cannot_hover", "level": "clash", "pack_state": "empty"}.items() <= data["findings"][-1].items()
 
 
 @pytest.mark.parametrize("fmt", ["table", "markdown", "json"])

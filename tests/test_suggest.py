@@ -45,6 +45,8 @@ cells = 4
 [flight]
 idle = "4 %"
 cruise = "60 %"
+cruise_dwell = true     # a cruiser: the window at cruise lies in a dwell zone (issue 10's verdict)
+dwell_spread = "0 %"    # dwell exactly at hover and cruise, so the derived edges below hold
 [check]
 families = ["rotor"]
 """

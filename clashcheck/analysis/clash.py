@@ -7,25 +7,38 @@ Nyquist zone, so an excitation whose *fold* lands on the mode gives an
 aliased window.  Windows are clipped to [idle, max] and merged per mode into
 danger ranges.
 
-Verdict (DESIGN.md vocabulary):
+With pack sag the rotor rate can peak below full throttle; each band is
+then met on both sides of the peak (:func:`~clashcheck.analysis.windows.throttle_windows`).
 
-- ``clear``: no window in [idle, max];
-- ``watch``: windows exist, none touching the operating band;
-- ``clash``: a window touches the operating band (hover up to cruise) of its
-  pack state, which includes hover sitting inside a margin.
+Verdict (DESIGN.md vocabulary; the rule itself is
+:func:`clashcheck.analysis.windows.window_levels`):
+
+- the craft **dwells** at hover at each pack state, within ± the build's
+  ``flight.dwell_spread``, and at cruise when ``flight.cruise_dwell`` says it
+  cruises there; a measured throttle occupancy (``--modes`` with ``[dwell]``)
+  replaces these zones; everything else between idle and max is **passage**;
+- an order is **significant** at a point when its weight after the anti-alias
+  filter × the single-degree-of-freedom magnification there reaches
+  ``check.significance_floor`` (default 1);
+- ``clash``: a significant order inside its required margin in a dwell zone
+  at some pack state, or the craft cannot hover at a pack state checked (a
+  finding of its own);
+- ``watch``: windows crossed only in passage, or weak orders in a dwell zone;
+- ``clear``: no window of a significant order between idle and max.
 
 This module is pure: it returns result dataclasses and formats nothing.
 """
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..model.drive import Drive, Hover
+from ..model.drive import Drive, Hover, throttle_at_rad_s, throttle_fall_rad_s
 from ..model.excitation import Order, Sensor, alias_images, fold
 from ..model.modes import (
     MarginPolicy,
@@ -34,9 +47,27 @@ from ..model.modes import (
     magnification,
     relative_margin,
 )
+from ..model.rates import TWO_PI
+from .levels import FAIL_LEVELS, VERDICTS, worse_verdict
+from .windows import (
+    LEVEL_CODES,
+    MAX_ALIAS_MULTIPLE,
+    SIGNIFICANCE_FLOOR,
+    above_floor,
+    interval_margin,
+    margin_band,
+    rotor_peak,
+    rotor_range_hz,
+    seen_weight,
+    window_levels,
+    windows_from_roots,
+)
 
 __all__ = [
     "VERDICTS",
+    "FAIL_LEVELS",
+    "LIES_IN",
+    "CheckFinding",
     "Window",
     "DangerRange",
     "MarginAt",
@@ -51,19 +82,6 @@ __all__ = [
     "check_build",
 ]
 
-#: Verdicts from best to worst.
-VERDICTS = ("clear", "watch", "clash")
-
-#: Alias images are sought up to this many sample rates above the true band;
-#: beyond it the search would grow without bound for absurd inputs.
-MAX_ALIAS_MULTIPLE = 32
-
-
-def worse_verdict(a: str, b: str) -> str:
-    """The worse of two verdicts."""
-    return a if VERDICTS.index(a) >= VERDICTS.index(b) else b
-
-
 @dataclass(frozen=True)
 class OperatingBand:
     """The throttle range the craft lives in at one pack state."""
@@ -76,6 +94,10 @@ class OperatingBand:
     throttle_low: float
     #: Top of the band [fraction]: cruise (or hover, if hover sits above cruise).
     throttle_high: float
+    #: Dwell zones at this pack state: (what, low, high) throttle [fraction];
+    #: ``what`` is ``"hover"``, ``"cruise"``, ``"measured"`` or ``"operating band"``
+    #: (hover unknown: the whole band is taken as dwell).
+    dwell: tuple[tuple[str, float, float], ...] = ()
 
     @property
     def flies(self) -> bool:
@@ -121,10 +143,28 @@ class Window:
     weight: float
     #: Ranking figure: weight × amplification factor.
     severity: float
-    #: True excitation frequency at the window's lower edge [Hz].
+    #: Lowest true excitation frequency over the window [Hz].
     excitation_low_hz: float
-    #: True excitation frequency at the window's upper edge [Hz].
+    #: Highest true excitation frequency over the window [Hz] (the peak rate × order where the window holds the peak).
     excitation_high_hz: float
+    #: ``"dwell"`` when the window overlaps a dwell zone of its pack state, else ``"passage"``.
+    lies_in: str = "passage"
+    #: Weight after the anti-alias filter × peak magnification, in the dwell zone
+    #: (when it lies in one) or over the window.
+    significance: float = math.inf
+    #: Whether the significance reaches the build's floor.
+    significant: bool = True
+    #: What the window adds to the verdict: ``"clash"``, ``"watch"`` or ``"clear"`` (a weak order in passage).
+    level: str = "watch"
+    #: The dwell zone it overlaps: ``"hover"``, ``"cruise"``, ``"measured"``, ``"operating band"``; ``None`` in passage.
+    dwell_zone: str | None = None
+    #: That zone's throttle edges [fraction]; ``None`` in passage.
+    dwell_low: float | None = None
+    dwell_high: float | None = None
+    #: Smallest margin of the order in the part that counts (dwell overlap or window) [fraction].
+    margin_in_part: float | None = None
+    #: ``"rising"`` or ``"falling"``: the side of the rotor-rate peak (``"rising"`` without sag).
+    side: str = "rising"
 
 
 @dataclass(frozen=True)
@@ -147,6 +187,12 @@ class DangerRange:
     all_aliased: bool
     #: Whether any of the windows touches its operating band.
     touches_operating_band: bool
+    #: ``"dwell"`` when any of the windows lies in a dwell zone, else ``"passage"``.
+    lies_in: str = "passage"
+    #: The worst window level in the range: ``"clash"``, ``"watch"`` or ``"clear"``.
+    level: str = "watch"
+    #: Throttle range per pack state: (pack state, low, high) [fraction].
+    per_state: tuple[tuple[str, float, float], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -193,6 +239,29 @@ class ModeResult:
     margins: tuple[MarginAt, ...]
     #: Verdict for this mode.
     verdict: str
+    #: ``"dwell"`` when a window that counts lies in a dwell zone, ``"passage"`` when they
+    #: lie only in passage, ``None`` without windows that count.
+    lies_in: str | None = None
+    #: The window that sets the verdict (highest level, then significance); ``None`` when clear.
+    deciding: Window | None = None
+
+
+#: Where a window or mode lies.
+LIES_IN = ("dwell", "passage")
+
+
+@dataclass(frozen=True)
+class CheckFinding:
+    """A finding of the check that is not a window (data only; the report words it)."""
+
+    #: ``"cannot_hover"``: hover needs more than full throttle at a pack state checked.
+    kind: str
+    #: Its level: ``"clash"``.
+    level: str
+    #: Pack state.
+    pack_state: str
+    #: Hover throttle needed [fraction; above 1, ``inf`` when no throttle gives it].
+    hover_throttle: float
 
 
 @dataclass(frozen=True)
@@ -227,6 +296,17 @@ class ClashResult:
     rotor_range_hz: dict[str, tuple[float, float]] = field(default_factory=dict)
     #: Findings and assumptions, one sentence each.
     notes: tuple[str, ...] = ()
+    #: Findings that are not windows (cannot hover), each at its level.
+    findings: tuple[CheckFinding, ...] = ()
+    #: Where the dwell zones come from: ``"default"`` (hover ± spread, cruise when
+    #: stated) or ``"measured"`` (a recording's throttle occupancy).
+    dwell_source: str = "default"
+    #: Half-width of the default dwell zones [throttle fraction].
+    dwell_spread: float = 0.03
+    #: Whether cruise is a dwell zone.
+    cruise_dwell: bool = False
+    #: Significance floor used.
+    significance_floor: float = SIGNIFICANCE_FLOOR
 
 
 def operating_bands(
@@ -236,12 +316,44 @@ def operating_bands(
     idle: float,
     cruise: float,
     stated_hover: float | None = None,
+    *,
+    throttle_max: float = 1.0,
+    dwell_spread: float = 0.03,
+    cruise_dwell: bool = False,
+    measured_dwell: Sequence[tuple[float, float]] | None = None,
 ) -> tuple[OperatingBand, ...]:
-    """Hover and operating band per pack state.
+    """Hover, operating band and dwell zones per pack state.
 
     When hover is unknown (no C_T and none stated) the band starts at idle,
-    which is conservative.  When the craft cannot hover at a pack state it has
-    no band there (``throttle_low`` is ``nan``).
+    and the whole band counts as dwell, which is conservative.  When the craft
+    cannot hover at a pack state it has no band and no dwell there
+    (``throttle_low`` is ``nan``).
+
+    Parameters
+    ----------
+    drive : Drive
+        The drive model.
+    mass_kg : float
+        All-up mass [kg].
+    pack_states : sequence of str
+        Pack states checked.
+    idle, cruise : float
+        Idle and cruise throttle [fraction].
+    stated_hover : float, optional
+        Hover throttle stated by the build [fraction].
+    throttle_max : float
+        Maximum throttle [fraction].
+    dwell_spread : float
+        Half-width of the hover (and cruise) dwell zones [throttle fraction].
+    cruise_dwell : bool
+        Whether the craft dwells at cruise.
+    measured_dwell : sequence of (low, high), optional
+        Dwell zones from a measured throttle occupancy [fraction]; they
+        replace the hover and cruise zones at every pack state.
+
+    Returns
+    -------
+    tuple of OperatingBand
     """
     bands = []
     for state in pack_states:
@@ -253,7 +365,20 @@ def operating_bands(
         else:
             low = math.nan
         high = math.nan if math.isnan(low) else max(cruise, low)
-        bands.append(OperatingBand(state, hover, low, high))
+        dwell: list[tuple[str, float, float]] = []
+        if math.isnan(low):
+            pass
+        elif measured_dwell is not None:
+            dwell = [("measured", max(idle, a), min(throttle_max, b)) for a, b in measured_dwell]
+        else:
+            if hover.how == "unknown":
+                dwell.append(("operating band", low, high))
+            else:
+                dwell.append(("hover", max(idle, hover.throttle - dwell_spread),
+                              min(throttle_max, hover.throttle + dwell_spread)))
+            if cruise_dwell:
+                dwell.append(("cruise", max(idle, cruise - dwell_spread), min(throttle_max, cruise + dwell_spread)))
+        bands.append(OperatingBand(state, hover, low, high, tuple(z for z in dwell if z[1] <= z[2])))
     return tuple(bands)
 
 
@@ -278,12 +403,14 @@ def _apparent_range(f_lo: float, f_hi: float, sensor: Sensor | None) -> list[tup
 def _min_margin(intervals: list[tuple[float, float]], mode: Mode) -> float:
     lo, hi = mode.frequency_low_hz, mode.frequency_high_hz
     assert lo is not None and hi is not None
-    best = math.inf
-    for a, b in intervals:
-        if b >= lo and a <= hi:
-            return 0.0
-        best = min(best, (lo - b) / lo if b < lo else (a - hi) / hi)
-    return best
+    return min((float(interval_margin(a, b, lo, hi)) for a, b in intervals), default=math.inf)
+
+
+@functools.lru_cache(maxsize=256)
+def _peak(drive: Drive, state: str) -> tuple[float, float]:
+    """Peak rotor rate [Hz] and its throttle at one pack state (cached: one eigenproblem per drive)."""
+    peak_hz, peak_d = rotor_peak(drive.pack.voltage(state), drive.parameters.as_kwargs())
+    return float(peak_hz), float(peak_d)
 
 
 def find_windows(
@@ -295,6 +422,7 @@ def find_windows(
     idle: float,
     throttle_max: float,
     sensor: Sensor | None = None,
+    significance_floor: float = SIGNIFICANCE_FLOOR,
 ) -> list[Window]:
     """Exact clash windows of one order on one mode at one pack state.
 
@@ -307,30 +435,36 @@ def find_windows(
     order : Order
         The excitation order.
     band : OperatingBand
-        The pack state's operating band (gives the pack state and hover).
+        The pack state's operating band (gives the pack state, hover and dwell zones).
     policy : MarginPolicy
         Margin policy.
     idle, throttle_max : float
         Throttle limits [fraction].
     sensor : Sensor, optional
         With a sensor, aliased windows are found too.
+    significance_floor : float
+        Weight after the filter × magnification an order needs to count as significant.
 
     Returns
     -------
     list of Window
-        Possibly empty; at most one direct window and one per alias image.
+        Possibly empty; for the direct line and each alias image, a window on
+        the rising side of the rotor rate and, with pack sag, one on the
+        falling side.
     """
     state = band.pack_state
     sm = policy.required_margin(mode)
     zeta, _ = policy.damping_of(mode)
     af = amplification_factor(zeta)
     assert mode.frequency_low_hz is not None and mode.frequency_high_hz is not None
-    band_lo_hz = mode.frequency_low_hz * (1.0 - sm)
-    band_hi_hz = mode.frequency_high_hz * (1.0 + sm)
+    band_lo_hz, band_hi_hz = margin_band(mode.frequency_low_hz, mode.frequency_high_hz, sm)
     if band_hi_hz <= band_lo_hz:
         return []
     n = order.order
-    top_rotor_hz = float(drive.rotor_hz(throttle_max, state))
+    params = drive.parameters.as_kwargs()
+    v_oc = drive.pack.voltage(state)
+    peak = _peak(drive, state)
+    top_rotor_hz = float(rotor_range_hz(idle, throttle_max, v_oc, params, peak)[1])
 
     # (zone, true band low, true band high, true frequency at the mode's nominal)
     images: list[tuple[int, float, float, float | None]] = [(0, band_lo_hz, band_hi_hz, mode.frequency_hz)]
@@ -345,15 +479,16 @@ def find_windows(
 
     hover = band.hover
     hover_known = not math.isnan(hover.rotor_hz) and hover.can_hover
-    true_rotor_hz = np.array(
-        [[f_a, f_b, math.nan if f_nom is None else f_nom] for _, f_a, f_b, f_nom in images]
-    ) / n
-    d = drive.throttle_at(true_rotor_hz, state)
-    lows = np.maximum(d[:, 0], idle)
-    highs = np.minimum(d[:, 1], throttle_max)
-    if not np.any(lows < highs):
+    true_hz = np.array([[f_a, f_b, math.nan if f_nom is None else f_nom] for _, f_a, f_b, f_nom in images])
+    omega = (true_hz / n) * TWO_PI       # band low, band high, nominal: both roots in one call each
+    with np.errstate(invalid="ignore"):
+        up = throttle_at_rad_s(omega, v_oc, **params)
+        down = throttle_fall_rad_s(omega, v_oc, **params)
+    rise_lo, rise_hi, fall_lo, fall_hi = windows_from_roots(up[:, 0], up[:, 1], down[:, 0], down[:, 1], idle,
+                                                            throttle_max)
+    if not (np.any(rise_lo < rise_hi) or np.any(fall_lo < fall_hi)):
         return []
-    f_edges = n * drive.rotor_hz(np.stack([lows, np.maximum(lows, highs)], axis=-1), state)
+    d_nominal = {"rising": up[:, 2], "falling": down[:, 2]}
 
     # Margin at hover and across the band: one figure for the direct line and
     # one for its fold, shared by every image of the same kind.
@@ -374,41 +509,72 @@ def find_windows(
             seen[aliased] = (margin_hover, mag, worst)
         return seen[aliased]
 
+    zones = band.dwell or (("none", 1.0, 0.0),)
+    zone_lo = np.array([z[1] for z in zones])
+    zone_hi = np.array([z[2] for z in zones])
+    code_name = {v: k for k, v in LEVEL_CODES.items()}
+    alias_zones = np.array([zone for zone, _a, _b, _n in images])
+    weights = np.full(len(images), float(order.weight))
+    if sensor is not None and len(images) > 1:
+        mid = 0.5 * (true_hz[1:, 0] + true_hz[1:, 1])
+        weights[1:] = seen_weight(order.weight, np.asarray(sensor.gain(mid), dtype=float))
+    fs = sensor.sample_rate_hz if sensor is not None else 0.0
     out = []
-    for i, (zone, f_a, f_b, _f_nom) in enumerate(images):
-        low, high = float(lows[i]), float(highs[i])
-        if not low < high:
-            continue
-        d_c = float(d[i, 2])
-        crossing = d_c if idle <= d_c <= throttle_max else None
-        margin_hover, mag, worst = margins(bool(zone))
-        touches = band.flies and low <= band.throttle_high and band.throttle_low <= high
-        weight = order.weight
-        if zone and sensor is not None:
-            weight *= float(sensor.gain(0.5 * (f_a + f_b)))
-        out.append(
-            Window(
-                mode=mode.name,
-                family=order.family,
-                order=n,
-                label=order.label,
-                pack_state=state,
-                throttle_low=low,
-                throttle_high=high,
-                crossing_throttle=crossing,
-                required_margin=sm,
-                margin_at_hover=margin_hover,
-                worst_margin_in_band=worst,
-                magnification_at_hover=mag,
-                aliased=bool(zone),
-                nyquist_zone=zone,
-                touches_operating_band=bool(touches),
-                weight=weight,
-                severity=weight * af,
-                excitation_low_hz=float(f_edges[i, 0]),
-                excitation_high_hz=float(f_edges[i, 1]),
+    n_img = len(images)
+    lows = np.concatenate([rise_lo, fall_lo])          # rising windows, then falling ones
+    highs = np.concatenate([rise_hi, fall_hi])
+    some = np.nonzero(lows < highs)[0]
+    if some.size:
+        image_of = some % n_img
+        rule = window_levels(lows[some], highs[some], n, v_oc, params, peak, zone_lo, zone_hi, weights[image_of],
+                             mode.frequency_low_hz, mode.frequency_high_hz, zeta, significance_floor,
+                             alias_zones[image_of], fs)
+        for j, k in enumerate(some):
+            side = "rising" if k < n_img else "falling"
+            i = int(k % n_img)
+            zone = int(images[i][0])
+            low, high = float(lows[k]), float(highs[k])
+            d_c = float(d_nominal[side][i])
+            crossing = d_c if idle <= d_c <= throttle_max else None
+            margin_hover, mag, worst = margins(bool(zone))
+            touches = band.flies and low <= band.throttle_high and band.throttle_low <= high
+            weight = float(weights[i])
+            in_dwell = bool(rule["in_dwell"][j])
+            dz = zones[int(rule["dwell_index"][j])] if in_dwell else None
+            significance = float(rule["significance"][j])
+            out.append(
+                Window(
+                    mode=mode.name,
+                    family=order.family,
+                    order=n,
+                    label=order.label,
+                    pack_state=state,
+                    throttle_low=low,
+                    throttle_high=high,
+                    crossing_throttle=crossing,
+                    required_margin=sm,
+                    margin_at_hover=margin_hover,
+                    worst_margin_in_band=worst,
+                    magnification_at_hover=mag,
+                    aliased=bool(zone),
+                    nyquist_zone=zone,
+                    touches_operating_band=bool(touches),
+                    weight=weight,
+                    severity=weight * af,
+                    excitation_low_hz=float(n * rule["rotor_low_hz"][j]),
+                    excitation_high_hz=float(n * rule["rotor_high_hz"][j]),
+                    lies_in="dwell" if in_dwell else "passage",
+                    significance=significance,
+                    significant=bool(significance >= significance_floor),
+                    level=code_name[int(rule["level"][j])],
+                    dwell_zone=None if dz is None else dz[0],
+                    dwell_low=None if dz is None else dz[1],
+                    dwell_high=None if dz is None else dz[2],
+                    margin_in_part=float(rule["margin"][j]),
+                    side=side,
+                )
             )
-        )
+    out.sort(key=lambda w: (w.side != "rising", w.nyquist_zone))
     return out
 
 
@@ -432,7 +598,8 @@ def _range_of(mode: str, group: Sequence[Window]) -> DangerRange:
         label = w.label + (" (aliased)" if w.aliased else "")
         if label not in labels:
             labels.append(label)
-    states = tuple(s for s in ("full", "nominal", "empty") if any(w.pack_state == s for w in group))
+    order_of_states = list(dict.fromkeys(["full", "nominal", "empty"] + [w.pack_state for w in group]))
+    states = tuple(s for s in order_of_states if any(w.pack_state == s for w in group))
     return DangerRange(
         mode=mode,
         throttle_low=min(w.throttle_low for w in group),
@@ -442,6 +609,13 @@ def _range_of(mode: str, group: Sequence[Window]) -> DangerRange:
         aliased=any(w.aliased for w in group),
         all_aliased=all(w.aliased for w in group),
         touches_operating_band=any(w.touches_operating_band for w in group),
+        lies_in="dwell" if any(w.lies_in == "dwell" for w in group) else "passage",
+        level=max((w.level for w in group), key=lambda lv: LEVEL_CODES[lv]),
+        per_state=tuple(
+            (s, min(w.throttle_low for w in group if w.pack_state == s),
+             max(w.throttle_high for w in group if w.pack_state == s))
+            for s in states
+        ),
     )
 
 
@@ -464,8 +638,8 @@ def _nearest(
     if sensor is not None:
         seen = np.asarray(fold(true_hz, sensor.sample_rate_hz)).reshape(-1)
         alias_margin = np.asarray(relative_margin(seen, mode), dtype=float).reshape(-1)
-        weights = np.array([o.weight for o in orders]) * np.asarray(sensor.gain(true_hz)).reshape(-1)
-        above = (true_hz > sensor.nyquist_hz) & (weights >= weight_floor)
+        weights = seen_weight(np.array([o.weight for o in orders]), np.asarray(sensor.gain(true_hz)).reshape(-1))
+        above = (true_hz > sensor.nyquist_hz) & above_floor(weights, weight_floor)
         use = above & (alias_margin < margins)
         margins = np.where(use, alias_margin, margins)
         aliased = use
@@ -499,6 +673,10 @@ def analyse(
     name: str = "",
     notes: Sequence[str] = (),
     weight_floor: float = 0.0,
+    dwell_spread: float = 0.03,
+    cruise_dwell: bool = False,
+    measured_dwell: Sequence[tuple[float, float]] | None = None,
+    significance_floor: float = SIGNIFICANCE_FLOOR,
 ) -> ClashResult:
     """Run the whole clash check.
 
@@ -506,40 +684,76 @@ def analyse(
     ``weight_floor`` are left out of the windows and the verdict; a note
     counts them.
 
+    Parameters
+    ----------
+    drive : Drive
+        The drive model.
+    modes : sequence of Mode
+        The frame modes.
+    orders : sequence of Order
+        The excitation orders.
+    policy : MarginPolicy
+        Margin policy.
+    mass_kg : float
+        All-up mass [kg].
+    pack_states : sequence of str
+        Pack states checked.
+    idle, throttle_max, cruise : float
+        Idle, maximum and cruise throttle [fraction].
+    stated_hover : float, optional
+        Hover throttle stated by the build [fraction].
+    sensor : Sensor, optional
+        The flight sensor (aliased windows).
+    name : str
+        Build name.
+    notes : sequence of str
+        Notes carried from the build.
+    weight_floor : float
+        Aliased windows below this weight after the filter are left out.
+    dwell_spread : float
+        Half-width of the hover and cruise dwell zones [throttle fraction].
+    cruise_dwell : bool
+        Whether the craft dwells at cruise.
+    measured_dwell : sequence of (low, high), optional
+        Dwell zones from a measured throttle occupancy [fraction].
+    significance_floor : float
+        Weight after the filter × magnification an order needs to make a clash.
+
     Returns
     -------
     ClashResult
         Windows for every mode × order × pack state, danger ranges per mode,
-        margins at hover and cruise, and the verdict.
+        margins at hover and cruise, findings and the verdict.
     """
-    bands = operating_bands(drive, mass_kg, pack_states, idle, cruise, stated_hover)
+    bands = operating_bands(drive, mass_kg, pack_states, idle, cruise, stated_hover, throttle_max=throttle_max,
+                            dwell_spread=dwell_spread, cruise_dwell=cruise_dwell, measured_dwell=measured_dwell)
+    findings = tuple(
+        CheckFinding("cannot_hover", "clash", b.pack_state, b.hover.throttle)
+        for b in bands if b.hover.how != "unknown" and not b.hover.can_hover
+    )
     found_notes = list(notes)
     for b in bands:
         if b.hover.how == "unknown":
             found_notes.append(
                 "hover is unknown (no prop.thrust_coefficient and no flight.hover): "
-                "the operating band is taken from idle"
+                "the operating band is taken from idle, and all of it counts as dwell"
             )
             break
     for b in bands:
         if b.hover.how != "unknown" and not b.hover.can_hover:
-            need = "more thrust than the motors give" if not math.isfinite(b.hover.throttle) else (
-                f"{100 * b.hover.throttle:.0f} % throttle"
-            )
-            found_notes.append(f"cannot hover at the {b.pack_state} pack: hover needs {need}")
+            continue  # a finding of its own (findings[])
         elif b.flies and b.hover.how != "unknown" and b.hover.throttle > cruise:
             found_notes.append(
                 f"hover ({100 * b.hover.throttle:.0f} %) sits above cruise ({100 * cruise:.0f} %) "
                 f"at the {b.pack_state} pack"
             )
+    params = drive.parameters.as_kwargs()
     for state in pack_states:  # past the pack's maximum-power point the rate falls with throttle
-        grid = np.linspace(idle, throttle_max, 65)
-        rate = drive.rotor_hz(grid, state)
-        if np.any(np.diff(rate) < 0):
-            peak = float(grid[int(np.argmax(rate))])
+        peak_hz, peak_d = _peak(drive, state)
+        if idle < peak_d < throttle_max:
             found_notes.append(
-                f"at the {state} pack the rotor rate peaks near {100 * peak:.0f} % throttle (pack sag wins above "
-                "it); windows are solved on the rising side only"
+                f"at the {state} pack the rotor rate peaks at {float(peak_hz):.1f} Hz near "
+                f"{100 * float(peak_d):.0f} % throttle (pack sag wins above it); windows are found on both sides"
             )
     assumed = [m.name for m in modes if m.damping is None]
     if assumed:
@@ -557,8 +771,9 @@ def analyse(
         windows = []
         for band in bands:
             for order in orders:
-                for w in find_windows(drive, mode, order, band, policy, idle, throttle_max, sensor):
-                    if w.aliased and w.weight < weight_floor:
+                for w in find_windows(drive, mode, order, band, policy, idle, throttle_max, sensor,
+                                      significance_floor):
+                    if w.aliased and not above_floor(w.weight, weight_floor):
                         faint += 1
                     else:
                         windows.append(w)
@@ -573,9 +788,12 @@ def analyse(
                 margins.append(
                     _nearest(drive, mode, orders, band.pack_state, "cruise", cruise, sm, sensor, weight_floor)
                 )
-        mode_verdict = "clear"
-        if windows:
-            mode_verdict = "clash" if any(w.touches_operating_band for w in windows) else "watch"
+        counted = [w for w in windows if w.level != "clear"]
+        deciding = max(counted, key=lambda w: (LEVEL_CODES[w.level], w.significance), default=None)
+        mode_verdict = "clear" if deciding is None else deciding.level
+        lies_in = None
+        if counted:
+            lies_in = "dwell" if any(w.lies_in == "dwell" for w in counted) else "passage"
         verdict = worse_verdict(verdict, mode_verdict)
         all_windows.extend(windows)
         mode_results.append(
@@ -585,9 +803,11 @@ def analyse(
                 damping_assumed=was_assumed,
                 amplification_factor=amplification_factor(zeta),
                 required_margin=sm,
-                danger_ranges=merge_windows(mode.name, windows),
+                danger_ranges=merge_windows(mode.name, counted),
                 margins=tuple(margins),
                 verdict=mode_verdict,
+                lies_in=lies_in,
+                deciding=deciding,
             )
         )
     if faint:
@@ -595,7 +815,10 @@ def analyse(
             f"{faint} aliased window(s) left out: their weight after the anti-alias filter is "
             f"below the floor of {weight_floor:g}"
         )
-    all_windows.sort(key=lambda w: (not w.touches_operating_band, -w.severity, w.throttle_low))
+    for finding in findings:
+        verdict = worse_verdict(verdict, finding.level)
+    all_windows.sort(key=lambda w: (-LEVEL_CODES[w.level], not w.touches_operating_band, -w.severity,
+                                    w.throttle_low))
     rotor_range = {
         s: (float(drive.rotor_hz(idle, s)), float(drive.rotor_hz(throttle_max, s))) for s in pack_states
     }
@@ -615,11 +838,26 @@ def analyse(
         sensor=sensor,
         rotor_range_hz=rotor_range,
         notes=tuple(found_notes),
+        findings=findings,
+        dwell_source="default" if measured_dwell is None else "measured",
+        dwell_spread=dwell_spread,
+        cruise_dwell=cruise_dwell,
+        significance_floor=significance_floor,
     )
 
 
 def check_build(build) -> ClashResult:
-    """Run the clash check of a :class:`~clashcheck.build.Build`."""
+    """Run the clash check of a build.
+
+    Parameters
+    ----------
+    build : Build
+        The build (:class:`clashcheck.model.build.Build`).
+
+    Returns
+    -------
+    ClashResult
+    """
     fl = build.flight
     return analyse(
         build.drive(),
@@ -636,4 +874,8 @@ def check_build(build) -> ClashResult:
         name=build.name,
         notes=build.notes,
         weight_floor=build.check.weight_floor,
+        dwell_spread=fl.dwell_spread,
+        cruise_dwell=fl.cruise_dwell,
+        measured_dwell=None if fl.occupancy is None else fl.occupancy.dwell_zones(),
+        significance_floor=build.check.significance_floor,
     )

@@ -26,6 +26,7 @@ from typing import Any
 from ..model.drive import Hover
 from ..model.shift import MassShift, swap_shift
 from .clash import VERDICTS, ClashResult, check_build
+from .levels import FAIL_LEVELS as _CHECK_FAIL_LEVELS
 
 __all__ = [
     "FAIL_LEVELS",
@@ -39,7 +40,7 @@ __all__ = [
 ]
 
 #: ``--fail-on`` levels: the findings that count at each.
-FAIL_LEVELS = ("clash", "watch", "never")
+FAIL_LEVELS = tuple(_CHECK_FAIL_LEVELS)
 
 
 @dataclass(frozen=True, order=True)

@@ -49,13 +49,24 @@ import numpy as np
 
 from ..errors import InputError
 from ..model.drive import hover_rotor_hz, rotor_rad_s, throttle_at_rad_s
-from ..model.excitation import build_orders
-from ..model.modes import magnification
+from ..model.excitation import build_orders, fold_in_zone, orders_for, zone_image
 from ..model.motor import Motor
 from ..model.propeller import Propeller
 from ..model.rates import TWO_PI
 from ..model.shift import RAYLEIGH_SHARE, shift_modes, tip_masses
-from .clash import MAX_ALIAS_MULTIPLE, ClashResult, check_build
+from .clash import ClashResult, check_build
+from .windows import (
+    MAX_ALIAS_MULTIPLE,
+    above_floor,
+    interval_margin,
+    margin_band,
+    peak_magnification,
+    rotor_peak,
+    rotor_range_hz,
+    seen_weight,
+    throttle_windows,
+    window_levels,
+)
 
 __all__ = [
     "PIN_NAMES",
@@ -525,30 +536,14 @@ class _Axes:
         self.combo = self.combo.reshape(-1)
         rows = []
         for poles, slots, blades in combos:
-            rows.append(build_orders(Motor(30.0, int(poles), int(slots)), Propeller(0.1, int(blades)),
-                                     build.check.families, build.check.custom_orders,
-                                     build.check.order_strengths))
+            rows.append(orders_for(int(blades), int(poles), int(slots), build.check.families,
+                                   build.check.custom_orders, build.check.order_strengths))
         self.order_rows = rows
-        self.order_numbers = np.array([[o.order for o in r] for r in rows])
-        self.order_weights = np.array([[o.weight for o in r] for r in rows])
-
-
-def _peak_magnification(x_lo, x_hi, f_lo, f_hi, zeta):
-    """Largest M(f/f_m) for f in [x_lo, x_hi] and f_m in [f_lo, f_hi].
-
-    M(r) rises to its peak at r_p = √(1 − 2ζ²) and falls after it (one
-    maximum), so the largest value over an interval of r sits at the point of
-    the interval nearest r_p.
-    """
-    r_p = np.sqrt(np.maximum(1.0 - 2.0 * zeta**2, 0.0))
-    r_star = np.clip(r_p, x_lo / f_hi, x_hi / f_lo)
-    return magnification(r_star, zeta)
-
-
-def _interval_margin(x_lo, x_hi, f_lo, f_hi):
-    """Smallest relative margin of [x_lo, x_hi] from a mode range [f_lo, f_hi]
-    (:func:`clashcheck.modes.relative_margin` over an interval)."""
-    return np.maximum(np.maximum((f_lo - x_hi) / f_lo, (x_lo - f_hi) / f_hi), 0.0)
+        # rows differ in length where two families give one order (2-blade props): pad, with a mask
+        width = max(len(r) for r in rows)
+        self.order_numbers = np.array([[o.order for o in r] + [1.0] * (width - len(r)) for r in rows])
+        self.order_weights = np.array([[o.weight for o in r] + [0.0] * (width - len(r)) for r in rows])
+        self.order_present = np.array([[True] * len(r) + [False] * (width - len(r)) for r in rows])
 
 
 def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Scores:
@@ -604,6 +599,7 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
     stated = fl.hover
     sensor = build.sensor
     floor = build.check.weight_floor
+    sig_floor = build.check.significance_floor
     out = {k: np.empty(n, dtype=dt) for k, dt in (
         ("flies", bool), ("band_clear", bool), ("in_range", bool), ("response", float),
         ("worst_margin", float), ("clash_count", np.int64))}
@@ -651,23 +647,30 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         f_hi = f_hi0[None, :] * rat
         zeta = np.where(zeta_known[None, :], zeta0[None, :] * rat, zeta0[None, :])
         sm = policy.margin_for_damping(zeta)
-        band_f_lo = f_lo * (1.0 - sm)
-        band_f_hi = f_hi * (1.0 + sm)
+        band_f_lo, band_f_hi = margin_band(f_lo, f_hi, sm)
         order = ax.order_numbers[ax.combo[sl]]          # (c, K)
         weight = ax.order_weights[ax.combo[sl]]
+        present = ax.order_present[ax.combo[sl]]        # (c, K): False where a row is padded
+        p4 = present[:, None, None, :]
         o4 = order[:, None, None, :]
         bl4 = band_lo[:, :, None, None]
         bh4 = band_hi[:, :, None, None]
         fly4 = flies_s[:, :, None, None]
 
-        # direct windows, as clash.find_windows: band edges → throttle, clipped to [idle, max]
-        d_a = throttle_at_rad_s((band_f_lo[:, None, :, None] / o4) * TWO_PI, v, **drive)
-        d_b = throttle_at_rad_s((band_f_hi[:, None, :, None] / o4) * TWO_PI, v, **drive)
-        low = np.maximum(d_a, fl.idle)
-        high = np.minimum(d_b, fl.max)
-        ok = (band_f_hi > band_f_lo)[:, None, :, None]
-        touch = ok & (low < high) & fly4 & (low <= bh4) & (bl4 <= high)
-        clash_count = touch.sum(axis=(1, 2, 3))
+        # dwell zones per (candidate, state), as clash.operating_bands: (c, S, Z)
+        zone_lo, zone_hi = _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi)
+        peak = rotor_peak(v, drive)                                   # (c, S, 1, 1) each
+
+        # direct windows, as clash.find_windows: band edges → throttle on both sides of any
+        # rotor-rate peak, clipped to [idle, max]; a clash is a significant window in a dwell zone
+        ok = p4 & fly4 & (band_f_hi > band_f_lo)[:, None, :, None]
+        clash_count = np.zeros(c, dtype=np.int64)
+        for low, high in _pairs(throttle_windows(band_f_lo[:, None, :, None], band_f_hi[:, None, :, None], o4,
+                                                 v, fl.idle, fl.max, drive)):
+            rule = window_levels(low, high, o4, v, drive, peak, zone_lo[:, :, None, None, :],
+                                 zone_hi[:, :, None, None, :], weight[:, None, None, :], f_lo[:, None, :, None],
+                                 f_hi[:, None, :, None], zeta[:, None, :, None], sig_floor)
+            clash_count += (ok & (rule["level"] == 2)).sum(axis=(1, 2, 3))
 
         # excitation over the operating band (true frequency) and its peak response
         rotor_lo = rotor_rad_s(band_lo[:, :, None, None], v, **drive) / TWO_PI
@@ -676,11 +679,11 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         x_hi = (o4 * rotor_hi)[:, :, 0, :]
         fl4, fh4, z4 = f_lo[:, None, :, None], f_hi[:, None, :, None], zeta[:, None, :, None]
         with np.errstate(invalid="ignore"):
-            resp = weight[:, None, None, :] * _peak_magnification(
+            resp = weight[:, None, None, :] * peak_magnification(
                 x_lo[:, :, None, :], x_hi[:, :, None, :], fl4, fh4, z4)
-            marg = _interval_margin(x_lo[:, :, None, :], x_hi[:, :, None, :], fl4, fh4)
-        resp = np.where(fly4, resp, -np.inf)
-        marg = np.where(fly4, marg, np.inf)
+            marg = interval_margin(x_lo[:, :, None, :], x_hi[:, :, None, :], fl4, fh4)
+        resp = np.where(fly4 & p4, resp, -np.inf)
+        marg = np.where(fly4 & p4, marg, np.inf)
         flat_r = resp.reshape(c, -1)
         flat_m = marg.reshape(c, -1)
         best_r = np.argmax(flat_r, axis=1)
@@ -693,9 +696,10 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         m_at = np.concatenate([s_m_k, np.zeros((c, 1), dtype=np.int64)], axis=1)
 
         if sensor is not None:
-            top_rotor = rotor_rad_s(fl.max, v, **drive)[:, :, 0, 0] / TWO_PI       # (c, S)
-            alias = _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_hi,
-                             flies_s, band_f_lo, band_f_hi, f_lo, f_hi, zeta, v, drive, fl)
+            top_rotor = rotor_range_hz(fl.idle, fl.max, v, drive, peak)[1][:, :, 0, 0]   # (c, S)
+            alias = _aliased(sensor, floor, order, weight, present, top_rotor, x_lo, x_hi, band_lo, band_hi,
+                             flies_s, band_f_lo, band_f_hi, f_lo, f_hi, zeta, v, drive, fl,
+                             (zone_lo, zone_hi, peak, sig_floor))
             clash_count = clash_count + alias["touch_count"]
             better = alias["response"] > response
             response = np.where(better, alias["response"], response)
@@ -722,8 +726,43 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
     )
 
 
-def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_hi, flies_s,
-             band_f_lo, band_f_hi, f_lo, f_hi, zeta, v, drive, fl):
+def _pairs(windows):
+    """The (low, high) pairs of :func:`~clashcheck.analysis.windows.throttle_windows`: rising, falling."""
+    rise_lo, rise_hi, fall_lo, fall_hi = windows
+    return ((rise_lo, rise_hi), (fall_lo, fall_hi))
+
+
+def _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi):
+    """Dwell zones per (candidate, state) as :func:`clashcheck.analysis.clash.operating_bands` sets them.
+
+    Returns (zone_lo, zone_hi), each (c, S, Z); an unused slot has low > high.
+    """
+    c, n_states = d_hover.shape
+    flies = ~np.isnan(band_lo)
+    if fl.occupancy is not None:
+        zones = fl.occupancy.dwell_zones()
+        lo = np.array([max(fl.idle, a) for a, _b in zones])
+        hi = np.array([min(fl.max, b) for _a, b in zones])
+        zone_lo = np.broadcast_to(lo, (c, n_states, lo.size)).copy()
+        zone_hi = np.broadcast_to(hi, (c, n_states, hi.size)).copy()
+    else:
+        known = np.broadcast_to(known_hover, (c, n_states))
+        with np.errstate(invalid="ignore"):
+            hover_lo = np.where(known, np.maximum(fl.idle, d_hover - fl.dwell_spread), band_lo)
+            hover_hi = np.where(known, np.minimum(fl.max, d_hover + fl.dwell_spread), band_hi)
+        slots_lo, slots_hi = [hover_lo], [hover_hi]
+        if fl.cruise_dwell:
+            slots_lo.append(np.full((c, n_states), max(fl.idle, fl.cruise - fl.dwell_spread)))
+            slots_hi.append(np.full((c, n_states), min(fl.max, fl.cruise + fl.dwell_spread)))
+        zone_lo, zone_hi = np.stack(slots_lo, axis=-1), np.stack(slots_hi, axis=-1)
+    empty = ~(flies & (~np.broadcast_to(known_hover, (c, n_states)) | can))[:, :, None]
+    zone_lo = np.where(empty | np.isnan(zone_lo), 1.0, zone_lo)
+    zone_hi = np.where(empty | np.isnan(zone_hi), 0.0, zone_hi)
+    return zone_lo, zone_hi
+
+
+def _aliased(sensor, floor, order, weight, present, top_rotor, x_lo, x_hi, band_lo, band_hi, flies_s,
+             band_f_lo, band_f_hi, f_lo, f_hi, zeta, v, drive, fl, dwell):
     """Aliased clash windows touching the band, and the aliased response, for one block.
 
     Works on the sparse set of (candidate, state, order, Nyquist zone) pieces
@@ -734,14 +773,27 @@ def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_
     """
     fs = sensor.sample_rate_hz
     nyq = sensor.nyquist_hz
+    zone_lo, zone_hi, peak, sig_floor = dwell
     c, n_states, n_orders = x_lo.shape
+    # excitation over the dwell zones (with the peak rate where a zone holds it), for reach
+    used = zone_lo <= zone_hi
+    z_a = np.min(np.where(used, zone_lo, np.inf), axis=-1)
+    z_b = np.max(np.where(used, zone_hi, -np.inf), axis=-1)
+    any_zone = np.isfinite(z_a)
+    with np.errstate(invalid="ignore"):
+        r_a, r_b = rotor_range_hz(np.where(any_zone, z_a, fl.idle)[:, :, None, None],
+                                  np.where(any_zone, z_b, fl.idle)[:, :, None, None], v, drive, peak)
+    dw_lo = np.where(any_zone[:, :, None], order[:, None, :] * r_a[:, :, 0, :], np.inf)      # (c, S, K)
+    dw_hi = np.where(any_zone[:, :, None], order[:, None, :] * r_b[:, :, 0, :], -np.inf)
+    x_lo_r = np.fmin(np.where(np.isfinite(x_lo), x_lo, np.inf), dw_lo)
+    x_hi_r = np.fmax(np.where(np.isfinite(x_hi), x_hi, -np.inf), dw_hi)
     n_modes = f_lo.shape[1]
     touch_count = np.zeros(c, dtype=np.int64)
     response = np.full(c, -np.inf)
     response_at = np.zeros((c, 4), dtype=np.int64)
     margin = np.full(c, np.inf)
     margin_at = np.zeros((c, 4), dtype=np.int64)
-    finite_hi = np.where(np.isfinite(x_hi), x_hi, 0.0)
+    finite_hi = np.where(np.isfinite(x_hi_r), x_hi_r, 0.0)
     top_zone = int(np.floor(np.max(finite_hi, initial=0.0) / nyq))
     max_hz = np.minimum(order[:, None, :] * top_rotor[:, :, None], MAX_ALIAS_MULTIPLE * fs)   # (c, S, K)
     lo_app = np.maximum(band_f_lo, 0.0)                                                          # (c, M)
@@ -750,45 +802,39 @@ def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_
     eps = 1e-9
     for zone in range(1, top_zone + 1):
         edge_lo, edge_hi = zone * nyq, (zone + 1) * nyq
-        reach = fly3 & (x_hi >= edge_lo * (1 - eps)) & (x_lo <= edge_hi * (1 + eps))
-        reach &= weight[:, None, :] * sensor.gain(edge_lo) >= floor * (1 - eps)
+        reach = fly3 & present[:, None, :] & (x_hi_r >= edge_lo * (1 - eps)) & (x_lo_r <= edge_hi * (1 + eps))
+        reach &= above_floor(seen_weight(weight[:, None, :], sensor.gain(edge_lo)), floor * (1 - eps))
         ci, si, ki = np.nonzero(reach)
         if ci.size == 0:
             continue
-        m_img = (zone + 1) // 2
         n_o = order[ci, ki][:, None]                                  # (P, 1)
-        if zone % 2:
-            img_a, img_b = m_img * fs - hi_app[ci], m_img * fs - lo_app[ci]   # (P, M)
-        else:
-            img_a, img_b = m_img * fs + lo_app[ci], m_img * fs + hi_app[ci]
+        img_a, img_b = zone_image(lo_app[ci], hi_app[ci], zone, fs)    # (P, M)
         pd = {k: (val.reshape(-1)[ci][:, None] if np.ndim(val) else val) for k, val in drive.items()}
         vv = v[ci, si, 0, 0][:, None]
-        d_a = throttle_at_rad_s((img_a / n_o) * TWO_PI, vv, **pd)
-        d_b = throttle_at_rad_s((img_b / n_o) * TWO_PI, vv, **pd)
-        low = np.maximum(d_a, fl.idle)
-        high = np.minimum(d_b, fl.max)
-        w_img = weight[ci, ki][:, None] * sensor.gain(0.5 * (img_a + img_b))
+        w_img = seen_weight(weight[ci, ki][:, None], sensor.gain(0.5 * (img_a + img_b)))
         valid = (lo_app[ci] <= hi_app[ci]) & (band_f_hi[ci] > band_f_lo[ci])
         valid &= img_a <= max_hz[ci, si, ki][:, None]
-        valid &= w_img >= floor
-        bl, bh = band_lo[ci, si][:, None], band_hi[ci, si][:, None]
-        touch = valid & (low < high) & (low <= bh) & (bl <= high)
-        np.add.at(touch_count, ci, touch.sum(axis=1))
+        valid &= above_floor(w_img, floor)
+        pk = (peak[0][ci, si, 0, 0][:, None], peak[1][ci, si, 0, 0][:, None])
+        for low, high in _pairs(throttle_windows(img_a, img_b, n_o, vv, fl.idle, fl.max, pd)):
+            rule = window_levels(low, high, n_o, vv, pd, pk, zone_lo[ci, si][:, None, :], zone_hi[ci, si][:, None, :],
+                                 w_img, f_lo[ci], f_hi[ci], zeta[ci], sig_floor, zone, fs)
+            np.add.at(touch_count, ci, (valid & (rule["level"] == 2)).sum(axis=1))
 
         # aliased response: the band's piece in this zone, as the sensor sees it
         t_lo = np.maximum(x_lo[ci, si, ki], edge_lo)
         t_hi = np.minimum(x_hi[ci, si, ki], edge_hi)
         inside = t_lo <= t_hi
-        w_piece = weight[ci, ki] * sensor.gain(t_lo)
-        keep = inside & (w_piece >= floor)
+        w_piece = seen_weight(weight[ci, ki], sensor.gain(t_lo))
+        keep = inside & above_floor(w_piece, floor)
         if not np.any(keep):
             continue
-        a_lo = np.asarray(_fold_in_zone(t_lo, zone, fs))
-        a_hi = np.asarray(_fold_in_zone(t_hi, zone, fs))
+        a_lo = np.asarray(fold_in_zone(t_lo, zone, fs))
+        a_hi = np.asarray(fold_in_zone(t_hi, zone, fs))
         app_lo, app_hi = np.minimum(a_lo, a_hi)[:, None], np.maximum(a_lo, a_hi)[:, None]
         with np.errstate(invalid="ignore"):
-            val = w_piece[:, None] * _peak_magnification(app_lo, app_hi, f_lo[ci], f_hi[ci], zeta[ci])
-            mar = _interval_margin(app_lo, app_hi, f_lo[ci], f_hi[ci])
+            val = w_piece[:, None] * peak_magnification(app_lo, app_hi, f_lo[ci], f_hi[ci], zeta[ci])
+            mar = interval_margin(app_lo, app_hi, f_lo[ci], f_hi[ci])
         val = np.where(keep[:, None], val, -np.inf)
         mar = np.where(keep[:, None], mar, np.inf)
         best_mode = np.argmax(val, axis=1)
@@ -800,13 +846,6 @@ def _aliased(sensor, floor, order, weight, top_rotor, x_lo, x_hi, band_lo, band_
                      negate=True)
     return {"touch_count": touch_count, "response": response, "response_at": response_at,
             "margin": margin, "margin_at": margin_at}
-
-
-def _fold_in_zone(freq_hz, zone: int, fs: float):
-    """Apparent frequency in a known Nyquist zone (linear there): the fold of
-    :func:`clashcheck.excitation.fold`, without its rounding at zone edges."""
-    m = (zone + 1) // 2
-    return m * fs - freq_hz if zone % 2 else freq_hz - m * fs
 
 
 def _scatter_max(target, where, index, values, info, negate: bool = False):
@@ -977,7 +1016,7 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
             "hover": hover,
             "clash_count": int(scores.clash_count[index]),
         }
-        if (result.verdict == "clash") == bool(scores.band_clear[index]):
+        if (result.verdict == "clash") == fields["band_clear"]:
             notes.append(f"candidate {label}: the full check ({result.verdict}) disagrees with the search")
         picks.append(Pick(rank=place, index=index, label=label, build=cand, result=result,
                           reasons=_reasons(fields, space.hover_range), **fields))

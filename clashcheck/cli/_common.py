@@ -6,11 +6,13 @@ from pathlib import Path
 
 import click
 
-#: Exit codes of every command.
-EXIT_OK, EXIT_FAIL, EXIT_INPUT = 0, 1, 2
+from ..analysis.levels import FAIL_LEVELS as _VERDICT_FAIL_LEVELS
+
+#: Exit codes of every command: nothing at the fail level, something at it, bad input, a bug.
+EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_BUG = 0, 1, 2, 3
 
 FORMATS = click.Choice(["table", "json", "markdown"])
-FAIL_LEVELS = {"clash": ("clash",), "watch": ("watch", "clash"), "never": ()}
+FAIL_LEVELS = _VERDICT_FAIL_LEVELS
 
 
 class Quantity(click.ParamType):

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from ..errors import InputError
+from ..model.excitation import ORDER_FAMILIES
 from ..model.modes import MODE_AXES
 
 if TYPE_CHECKING:
@@ -15,8 +16,6 @@ if TYPE_CHECKING:
 __all__ = ["MeasuredMode", "OrderStrength", "ModesResult", "Dwell", "ORDER_FAMILIES", "KINDS",
            "DWELL_QUANTITIES"]
 
-#: Families an order strength can carry (``custom`` when the family is not known).
-ORDER_FAMILIES = ("rotor", "blade", "electrical", "commutation", "cogging", "custom")
 #: Kinds of recording.
 KINDS = ("tap", "flight")
 #: What a measured dwell is counted over: throttle (fraction 0–1) or rotor rate [Hz].

@@ -19,10 +19,10 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
-from ..errors import InputError
+from ..errors import MISSING, InputError
 from ..model.battery import PACK_STATES, Chemistry, Pack
-from ..model.build import Build, CheckSettings, Flight, MeasuredModes
-from ..model.excitation import FAMILIES, Sensor
+from ..model.build import DEFAULT_DWELL_SPREAD, Build, CheckSettings, Flight, MeasuredModes, ThrottleOccupancy
+from ..model.excitation import FAMILIES, ORDER_FAMILIES, Sensor
 from ..model.modes import MODE_AXES, MODE_KINDS, POLICIES, MarginPolicy, Mode
 from ..model.motor import Motor
 from ..model.propeller import Propeller
@@ -64,9 +64,10 @@ _PROP_KEYS = (
 _BATTERY_KEYS = ("cells", "chemistry", "cell_resistance", "cell_full", "cell_nominal", "cell_empty")
 _CHEMISTRY_KEYS = ("description", "full", "nominal", "empty", "typical_cell_resistance", "source")
 _SENSOR_KEYS = ("sample_rate", "antialias_cutoff", "antialias_order")
-_FLIGHT_KEYS = ("idle", "max", "cruise", "hover", "altitude", "temperature_offset")
+_FLIGHT_KEYS = ("idle", "max", "cruise", "hover", "altitude", "temperature_offset", "dwell_spread", "cruise_dwell")
 _CHECK_KEYS = (
     "policy", "margin", "default_damping", "pack_states", "families", "orders", "order_strengths", "weight_floor",
+    "significance_floor",
 )
 _ORDER_KEYS = ("order", "label", "weight")
 _STRENGTH_KEYS = ("order", "family", "relative_strength")
@@ -368,7 +369,32 @@ def _parse_flight(raw: dict[str, Any] | None) -> tuple[Flight, list[str]]:
                           range_text="from -500 m to 11000 m")
     offset = f.quantity(raw, "temperature_offset", where, "K", "10 K", default=0.0, minimum=-80.0, maximum=60.0,
                         range_text="from -80 K to 60 K")
-    return Flight(values["idle"], values["max"], values["cruise"], hover, altitude or 0.0, offset or 0.0), notes
+    spread = f.quantity(raw, "dwell_spread", where, "%", "5 %", default=DEFAULT_DWELL_SPREAD, minimum=0.0,
+                        maximum=0.5, range_text="from 0 % to 50 %")
+    cruise_dwell = _flag(raw, "cruise_dwell", where, default=False)
+    return Flight(values["idle"], values["max"], values["cruise"], hover, altitude or 0.0, offset or 0.0,
+                  DEFAULT_DWELL_SPREAD if spread is None else spread, cruise_dwell), notes
+
+
+def _flag(raw: dict[str, Any], key: str, where: str, *, default: bool) -> bool:
+    value = raw.get(key, MISSING)
+    if value is MISSING:
+        return default
+    if not isinstance(value, bool):
+        raise InputError(f"{where}.{key}", "true or false (a TOML boolean)", value)
+    return value
+
+
+def _numbers(raw: dict[str, Any], key: str, where: str, *, max_items: int = 1000) -> tuple[float, ...]:
+    value = raw.get(key, MISSING)
+    expected = "a list of bare numbers, like [0.0, 0.25, 0.5]"
+    if value is MISSING:
+        raise InputError(f"{where}.{key}", expected, MISSING)
+    if not isinstance(value, list) or len(value) > max_items or any(
+        isinstance(x, bool) or not isinstance(x, (int, float)) for x in value
+    ):
+        raise InputError(f"{where}.{key}", expected, value if not isinstance(value, list) else value[:8])
+    return tuple(float(x) for x in value)
 
 
 def _parse_strengths(raws: list[dict[str, Any]], where: str) -> tuple[tuple[float, str, float], ...]:
@@ -377,7 +403,7 @@ def _parse_strengths(raws: list[dict[str, Any]], where: str) -> tuple[tuple[floa
         at = f"{where}[{i}]"
         f.check_keys(raw, _STRENGTH_KEYS, at)
         order = f.ratio(raw, "order", at, low=0.0, high=10000.0, open_high=False, required=True, what="an order")
-        family = f.choice(raw, "family", at, FAMILIES + ("custom",), required=True)
+        family = f.choice(raw, "family", at, ORDER_FAMILIES, required=True)
         strength = f.ratio(raw, "relative_strength", at, low=0.0, high=1e6, open_low=False, required=True,
                            what="a relative strength")
         assert order is not None and family is not None and strength is not None
@@ -416,8 +442,10 @@ def _parse_check(raw: dict[str, Any] | None) -> CheckSettings:
     strengths = _parse_strengths(f.tables(raw, "order_strengths", where), "check.order_strengths")
     floor = f.ratio(raw, "weight_floor", where, low=0.0, high=1.0, open_low=False, default=0.02,
                     what="a weight floor")
-    assert floor is not None
-    return CheckSettings(policy, states, families, tuple(custom), strengths, floor)
+    significance = f.ratio(raw, "significance_floor", where, low=0.0, high=1e6, open_low=False, default=1.0,
+                           what="a significance floor")
+    assert floor is not None and significance is not None
+    return CheckSettings(policy, states, families, tuple(custom), strengths, floor, significance)
 
 
 def parse_build(data: dict[str, Any], *, path: str | None = None) -> Build:
@@ -516,9 +544,21 @@ def load_build(path: str | Path) -> Build:
 
 
 def load_modes_file(path: str | Path) -> MeasuredModes:
-    """Read a modes file: ``[[frame.modes]]`` and optional ``[[order_strengths]]``.
+    """Read a modes file: ``[[frame.modes]]``, optional ``[[order_strengths]]`` and ``[dwell]``.
 
-    Modes from such a file are marked ``measured``.
+    Modes from such a file are marked ``measured``.  ``[dwell]`` holds a
+    flight's throttle occupancy: ``throttle = [band edges as fractions]`` and
+    ``share = [time fraction per band]`` (summing to 1); ``check`` then takes
+    its dwell zones from it.
+
+    Parameters
+    ----------
+    path : str or Path
+        The modes file.
+
+    Returns
+    -------
+    MeasuredModes
     """
     data = _read_toml(path, "modes file")
     try:
@@ -531,6 +571,13 @@ def load_modes_file(path: str | Path) -> MeasuredModes:
         if not modes:
             raise InputError("frame.modes", "at least one [[frame.modes]] entry", [])
         strengths = _parse_strengths(f.tables(data, "order_strengths", ""), "order_strengths")
+        occupancy = None
+        dwell = f.table(data, "dwell", "")
+        if dwell is not None:
+            f.check_keys(dwell, ("throttle", "share", "source"), "dwell")
+            f.text(dwell, "source", "dwell")
+            occupancy = ThrottleOccupancy(_numbers(dwell, "throttle", "dwell"), _numbers(dwell, "share", "dwell"),
+                                          str(path))
     except InputError as exc:  # name the modes file, not only the field
         raise InputError(f"{path}: {exc.field}", exc.expected, exc.got, exc.hint) from None
-    return MeasuredModes(tuple(modes), strengths, str(path))
+    return MeasuredModes(tuple(modes), strengths, str(path), occupancy)

@@ -22,7 +22,95 @@ from .propeller import Propeller
 if TYPE_CHECKING:
     from .arm import ArmGeometry
 
-__all__ = ["Flight", "CheckSettings", "Build", "MeasuredModes"]
+__all__ = [
+    "Flight",
+    "CheckSettings",
+    "Build",
+    "MeasuredModes",
+    "ThrottleOccupancy",
+    "DEFAULT_DWELL_SPREAD",
+    "MEASURED_DWELL_COVERAGE",
+]
+
+#: Default half-width of a dwell zone [throttle fraction]: ±3 throttle points
+#: around hover (and cruise).  Judgement: in steady hover in calm air the
+#: attitude and height control move each motor's command a few percent
+#: either side of the mean; gusty sites or aggressive flying call for more
+#: (``flight.dwell_spread``).  On a small multirotor 3 points of throttle
+#: move the rotor rate by roughly 10 %, about the width of a margin band.
+DEFAULT_DWELL_SPREAD = 0.03
+
+#: Share of flight time the measured dwell zones hold: the densest throttle
+#: bands of a recording's occupancy, taken until they hold 80 % of the time.
+#: Judgement: the rest is the craft passing between them.
+MEASURED_DWELL_COVERAGE = 0.8
+
+
+@dataclass(frozen=True)
+class ThrottleOccupancy:
+    """Where a recorded flight spent its time: the share of time per throttle band.
+
+    Written by ``clashcheck modes --kind flight`` to a modes file as
+    ``[dwell]`` with ``throttle = [edges...]`` and ``share = [fractions...]``.
+    """
+
+    #: Band edges [throttle fraction], increasing, within [0, 1]; one more than shares.
+    throttle: tuple[float, ...]
+    #: Share of flight time in each band [fraction]; they sum to 1.
+    share: tuple[float, ...]
+    #: Where it came from (a file), for the report.
+    source: str = ""
+
+    def __post_init__(self) -> None:
+        edges, shares = self.throttle, self.share
+        if len(edges) < 2 or len(shares) != len(edges) - 1:
+            raise InputError("dwell.share", f"one share per throttle band ({max(len(edges) - 1, 1)})", len(shares))
+        if any(not (math.isfinite(e) and 0.0 <= e <= 1.0) for e in edges) or any(
+            b <= a for a, b in zip(edges[:-1], edges[1:])
+        ):
+            raise InputError("dwell.throttle", "increasing band edges from 0 to 1", list(edges))
+        if any(not (math.isfinite(x) and x >= 0) for x in shares) or not math.isclose(sum(shares), 1.0,
+                                                                                           abs_tol=1e-3):
+            raise InputError("dwell.share", "time fractions of 0 or more that sum to 1", list(shares))
+
+    def dwell_zones(self, coverage: float = MEASURED_DWELL_COVERAGE) -> tuple[tuple[float, float], ...]:
+        """The throttle bands the craft dwells in: the densest, until they hold ``coverage`` of the time.
+
+        Bands are taken by time share per throttle width, densest first;
+        adjacent chosen bands are merged.
+
+        Parameters
+        ----------
+        coverage : float
+            Share of flight time the zones hold [fraction].
+
+        Returns
+        -------
+        tuple of (low, high)
+            Throttle intervals [fraction], in increasing order.
+
+        Examples
+        --------
+        >>> occ = ThrottleOccupancy((0.0, 0.2, 0.3, 0.4, 1.0), (0.05, 0.6, 0.25, 0.1))
+        >>> occ.dwell_zones()
+        ((0.2, 0.4),)
+        """
+        edges = self.throttle
+        density = [s / (b - a) for s, a, b in zip(self.share, edges[:-1], edges[1:])]
+        chosen: set[int] = set()
+        held = 0.0
+        for i in sorted(range(len(density)), key=lambda k: (-density[k], k)):
+            if held >= coverage - 1e-12:
+                break
+            chosen.add(i)
+            held += self.share[i]
+        zones: list[tuple[float, float]] = []
+        for i in sorted(chosen):
+            if zones and math.isclose(zones[-1][1], edges[i]):
+                zones[-1] = (zones[-1][0], edges[i + 1])
+            else:
+                zones.append((edges[i], edges[i + 1]))
+        return tuple(zones)
 
 
 @dataclass(frozen=True)
@@ -41,6 +129,12 @@ class Flight:
     altitude_m: float = 0.0
     #: ISA temperature offset [K].
     temperature_offset_k: float = 0.0
+    #: Half-width of the hover (and cruise) dwell zones [throttle fraction].
+    dwell_spread: float = DEFAULT_DWELL_SPREAD
+    #: Whether the craft dwells at cruise (a cruiser); otherwise it passes through it.
+    cruise_dwell: bool = False
+    #: Measured throttle occupancy (from a flight recording); replaces the default dwell zones.
+    occupancy: ThrottleOccupancy | None = None
 
     def __post_init__(self) -> None:
         for name in ("idle", "max", "cruise"):
@@ -59,6 +153,8 @@ class Flight:
             raise InputError(
                 "flight.cruise", f"a cruise at or below max ({100 * self.max:g} %)", f"{100 * self.cruise:g} %"
             )
+        if not (math.isfinite(self.dwell_spread) and 0.0 <= self.dwell_spread <= 0.5):
+            raise InputError("flight.dwell_spread", "a spread from 0 % to 50 %", self.dwell_spread)
 
 
 @dataclass(frozen=True)
@@ -77,6 +173,13 @@ class CheckSettings:
     order_strengths: tuple[tuple[float, str, float], ...] = ()
     #: Aliased windows weaker than this (after the anti-alias filter) are left out.
     weight_floor: float = 0.02
+    #: Weight after the filter × magnification an order needs to make a clash
+    #: (see :data:`clashcheck.analysis.windows.SIGNIFICANCE_FLOOR`).
+    significance_floor: float = 1.0
+
+    def __post_init__(self) -> None:
+        if not (math.isfinite(self.significance_floor) and self.significance_floor >= 0):
+            raise InputError("check.significance_floor", "a floor of 0 or more", self.significance_floor)
 
 
 @dataclass(frozen=True)
@@ -163,10 +266,18 @@ class Build:
                          f"the measured '{meas}' ({fm:.0f} Hz) by {100 * (fm / f - 1):+.0f} %, more than its "
                          "own range; trust the measurement")
         notes += _amplitude_notes(rec.modes, self.check.policy)
+        flight = self.flight
+        if measured.occupancy is not None:
+            flight = replace(flight, occupancy=measured.occupancy)
+            zones = ", ".join(f"{100 * a:.0f}–{100 * b:.0f} %" for a, b in measured.occupancy.dwell_zones())
+            notes.append(f"dwell zones measured from the flight's throttle occupancy in {measured.path}: {zones} "
+                         f"(the bands holding {100 * MEASURED_DWELL_COVERAGE:.0f} % of the time), in place of hover "
+                         "± spread")
         return replace(
             self,
             modes=rec.modes,
             check=replace(self.check, order_strengths=strengths),
+            flight=flight,
             notes=self.notes + tuple(notes),
         )
 
@@ -216,3 +327,5 @@ class MeasuredModes:
     order_strengths: tuple[tuple[float, str, float], ...]
     #: The file.
     path: str
+    #: Measured throttle occupancy (``[dwell]``), when the file has one.
+    occupancy: ThrottleOccupancy | None = None

@@ -31,6 +31,8 @@ from .rates import TWO_PI
 __all__ = [
     "rotor_rad_s",
     "throttle_at_rad_s",
+    "throttle_fall_rad_s",
+    "peak_rotor_rad_s",
     "hover_rotor_hz",
     "DriveParameters",
     "Drive",
@@ -135,6 +137,122 @@ def throttle_at_rad_s(omega_rad_s, v_oc, ke, r_m=0.0, i0=0.0, kq=0.0, n_motors=1
     with np.errstate(invalid="ignore"):
         d = 2.0 * e / (v_oc + np.sqrt(np.maximum(disc, 0.0)))
     return np.where(disc >= 0.0, d, np.inf)
+
+
+def throttle_fall_rad_s(omega_rad_s, v_oc, ke, r_m=0.0, i0=0.0, kq=0.0, n_motors=1, r_pack=0.0):
+    """Throttle [fraction] on the falling side: the larger root of the steady state.
+
+    With pack sag the rotor rate can peak below full throttle and fall after
+    it; each rate below the peak is then reached twice.  The larger root of
+    N·R_pack·I·d² − V·d + (Ke·ω + I·R_m) = 0 is
+    d = (V + √(V² − 4·N·R_pack·I·e)) / (2·N·R_pack·I).  Without pack
+    resistance (or current) there is no falling side and the result is
+    ``inf``; where the discriminant is negative the rate is above the peak
+    and the result is ``inf`` too.
+
+    Parameters
+    ----------
+    omega_rad_s : array_like
+        Shaft speed [rad/s].
+    v_oc, ke, r_m, i0, kq, n_motors, r_pack : array_like
+        As in :func:`rotor_rad_s`: open-circuit voltage [V], back-EMF
+        constant [V·s/rad], winding resistance [ohm], no-load current [A],
+        torque coefficient [N·m·s²], motors on the pack, pack resistance [ohm].
+
+    Returns
+    -------
+    numpy.ndarray
+        Throttle [fraction], broadcast over the inputs; ``inf`` where there is
+        no falling-side root.
+
+    Examples
+    --------
+    >>> ke = 60 / (2 * np.pi * 920)
+    >>> float(throttle_fall_rad_s(2 * np.pi * 200.0, 14.8, ke))
+    inf
+    """
+    w = np.asarray(omega_rad_s, dtype=float)
+    current = i0 + kq * w**2 / ke
+    e = ke * w + current * r_m
+    quad = n_motors * r_pack * current
+    disc = v_oc**2 - 4.0 * quad * e
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        d = (v_oc + np.sqrt(np.maximum(disc, 0.0))) / (2.0 * quad)
+    return np.where((disc >= 0.0) & (quad > 0.0), d, np.inf)
+
+
+def peak_rotor_rad_s(v_oc, ke, r_m=0.0, i0=0.0, kq=0.0, n_motors=1, r_pack=0.0):
+    """Highest steady shaft speed over all throttles, and the throttle where it sits.
+
+    With pack resistance the rotor rate peaks where the two throttle roots
+    meet: the discriminant V² − 4·N·R_pack·I(ω)·e(ω) is zero, with
+    I = I0 + q·ω² (q = k/Kt) and e = Ke·ω + I·R_m.  That is the polynomial
+
+        R_m·q²·ω⁴ + Ke·q·ω³ + 2·R_m·I0·q·ω² + Ke·I0·ω + R_m·I0² − V²/(4·N·R_pack) = 0,
+
+    whose one positive root is found from the eigenvalues of its companion
+    matrix (``numpy.linalg.eigvals``, batched); the throttle there is
+    d = V/(2·N·R_pack·I).  Without pack resistance there is no peak: both
+    results are ``inf``.
+
+    Parameters
+    ----------
+    v_oc, ke, r_m, i0, kq, n_motors, r_pack : array_like
+        As in :func:`rotor_rad_s`: open-circuit voltage [V], back-EMF
+        constant [V·s/rad], winding resistance [ohm], no-load current [A],
+        torque coefficient [N·m·s²], motors on the pack, pack resistance [ohm].
+
+    Returns
+    -------
+    (omega_peak_rad_s, throttle_peak)
+        Arrays broadcast over the inputs: the peak shaft speed [rad/s] and the
+        throttle where it is reached [fraction, may exceed 1].
+
+    Examples
+    --------
+    >>> ke = 60 / (2 * np.pi * 1950)
+    >>> w, d = peak_rotor_rad_s(25.2, ke, 0.1, 1.0, 2.5e-7, 4, 0.072)
+    >>> round(float(d), 3)
+    0.818
+    >>> args = (25.2, ke, 0.1, 1.0, 2.5e-7, 4, 0.072)
+    >>> bool(rotor_rad_s(d - 0.01, *args) < w > rotor_rad_s(d + 0.01, *args))
+    True
+    """
+    arrays = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (v_oc, ke, r_m, i0, kq, n_motors, r_pack)))
+    v, k_e, rm, cur0, k_q, n, rp = (a.reshape(-1) for a in arrays)
+    shape = arrays[0].shape
+    q = k_q / k_e
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        c0 = rm * cur0**2 - v**2 / (4.0 * n * rp)
+    coeffs = np.stack([rm * q**2, k_e * q, 2.0 * rm * cur0 * q, k_e * cur0, c0], axis=1)   # highest first
+    omega = np.full(v.shape, np.inf)
+    has_peak = (rp > 0) & (n > 0) & np.isfinite(c0) & (c0 < 0)
+    for degree in (4, 3, 2, 1):  # the leading coefficients vanish without R_m, k or I0
+        lead = 4 - degree
+        rows = has_peak & (coeffs[:, lead] > 0) & np.all(coeffs[:, :lead] == 0, axis=1)
+        if not np.any(rows):
+            continue
+        with np.errstate(over="ignore"):
+            c = coeffs[rows, lead:] / coeffs[rows, lead:lead + 1]            # monic, highest first
+        sane = np.all(np.isfinite(c), axis=1)          # else the peak lies beyond any float: no peak
+        rows[rows] = sane
+        c = c[sane]
+        if not np.any(rows):
+            continue
+        comp = np.zeros((c.shape[0], degree, degree))
+        comp[:, 0, :] = -c[:, 1:]
+        comp[:, np.arange(1, degree), np.arange(degree - 1)] = 1.0
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            roots = np.linalg.eigvals(comp)
+        real = np.abs(roots.imag) <= 1e-9 * np.maximum(np.abs(roots.real), 1.0)
+        positive = np.where(real & (roots.real > 0), roots.real, -np.inf)
+        omega[rows] = np.max(positive, axis=1)
+    omega = np.where(np.isfinite(omega) & (omega > 0), omega, np.inf)
+    finite = np.isfinite(omega)
+    current = cur0 + q * np.where(finite, omega, 0.0) ** 2
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        d = np.where(finite, v / (2.0 * n * rp * current), np.inf)
+    return omega.reshape(shape), d.reshape(shape)
 
 
 def hover_rotor_hz(mass_kg, n_motors, thrust_coefficient, density_kg_m3, diameter_m):

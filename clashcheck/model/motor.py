@@ -15,7 +15,62 @@ from dataclasses import dataclass
 from ..errors import InputError
 from .rates import TWO_PI
 
-__all__ = ["Motor"]
+__all__ = ["Motor", "electrical_order", "commutation_order", "cogging_order"]
+
+
+def electrical_order(poles: int) -> float:
+    """Electrical frequency as a multiple of rotor rate: poles/2.
+
+    Parameters
+    ----------
+    poles : int
+        Magnet poles (even count).
+
+    Returns
+    -------
+    float
+        The order (dimensionless).
+    """
+    return poles / 2
+
+
+def commutation_order(poles: int) -> float:
+    """Commutation events per revolution of six-step drive: 3 × poles.
+
+    Parameters
+    ----------
+    poles : int
+        Magnet poles (even count).
+
+    Returns
+    -------
+    float
+        The order (dimensionless).
+    """
+    return 3.0 * poles
+
+
+def cogging_order(slots: int, poles: int) -> float:
+    """Cogging periods per revolution: LCM(slots, poles) (Zhu & Howe 2000).
+
+    Parameters
+    ----------
+    slots : int
+        Stator slots.
+    poles : int
+        Magnet poles.
+
+    Returns
+    -------
+    float
+        The order (dimensionless).
+
+    Examples
+    --------
+    >>> cogging_order(12, 14)
+    84.0
+    """
+    return float(math.lcm(int(slots), int(poles)))
 
 
 @dataclass(frozen=True)
@@ -70,12 +125,12 @@ class Motor:
     @property
     def electrical_order(self) -> float:
         """Electrical frequency as a multiple of rotor rate: poles/2."""
-        return self.poles / 2
+        return electrical_order(self.poles)
 
     @property
     def commutation_order(self) -> float:
         """Commutation events per revolution of six-step drive: 3 × poles."""
-        return 3.0 * self.poles
+        return commutation_order(self.poles)
 
     @property
     def cogging_order(self) -> float:
@@ -86,7 +141,7 @@ class Motor:
         >>> Motor(30.0, 14, 12).cogging_order
         84.0
         """
-        return float(math.lcm(self.slots, self.poles))
+        return cogging_order(self.slots, self.poles)
 
 
 def _is_count(value: object) -> bool:

@@ -195,6 +195,7 @@ def campbell_data(build, result=None, *, points: int = 600) -> CampbellData:
     CampbellData
     """
     from ..analysis.clash import check_build
+    from ..analysis.windows import above_floor, seen_weight
     from ..model.excitation import fold
 
     if isinstance(points, bool) or not isinstance(points, int) or not 50 <= points <= 20000:
@@ -216,7 +217,7 @@ def campbell_data(build, result=None, *, points: int = 600) -> CampbellData:
         for o in result.orders:
             for s in states:
                 true_hz = o.order * rotor[s]
-                visible = (true_hz > nyq) & (o.weight * np.asarray(sensor.gain(true_hz)) >= floor)
+                visible = (true_hz > nyq) & above_floor(seen_weight(o.weight, np.asarray(sensor.gain(true_hz))), floor)
                 if np.any(visible):
                     apparent = np.where(visible, fold(true_hz, sensor.sample_rate_hz), math.nan)
                     aliases.append(AliasTrace(o.label, o.family, s, apparent))
