@@ -54,8 +54,39 @@ class Counts(click.ParamType):
         return numbers
 
 
-def emit(text: str, output: Path | None, inputs) -> None:
+def provenance_of(name: str, paths) -> str:
+    """The provenance line of outputs made from the files ``paths`` (read here, hashed in report).
+
+    Parameters
+    ----------
+    name : str
+        Build or recording name.
+    paths : sequence of path-like
+        Input files, in a fixed order; missing ones are skipped.
+
+    Returns
+    -------
+    str
+    """
+    from ..report.provenance import Provenance
+
+    blobs = []
+    for p in paths:
+        try:
+            blobs.append(Path(p).read_bytes())
+        except OSError:
+            continue
+    return Provenance.of(name, blobs).line()
+
+
+def emit(text: str, output: Path | None, inputs, fmt: str | None = None, provenance: str | None = None) -> None:
+    """Write ``text`` to ``output`` atomically, or echo it; Markdown gets the provenance line."""
     from ..files import write_output
+
+    if fmt == "markdown" and provenance:
+        from ..report.provenance import markdown_footer
+
+        text = text + markdown_footer(provenance)
 
     if output is not None:
         write_output(output, text, inputs=inputs)

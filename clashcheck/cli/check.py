@@ -13,6 +13,8 @@ from ._common import (
     FAIL_LEVELS,
     FORMATS,
     PATH,
+    emit,
+    provenance_of,
 )
 
 
@@ -44,7 +46,6 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
     2 bad input.
     """
     from ..analysis.clash import check_build
-    from ..files import write_output
     from ..inputs.buildfile import load_build, load_modes_file
     from ..report.check import render
 
@@ -53,15 +54,13 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
         build = build.with_measured(load_modes_file(modes_file))
     result = check_build(build)
     text = render(result, fmt)
+    inputs = [p for p in (build_file, modes_file) if p is not None]
+    prov = provenance_of(result.name, inputs) if (fmt == "markdown" or plot_file is not None) else None
     if plot_file is not None:  # matplotlib and scipy are imported only on this path
         from ..report.decide import report_with_diagram
 
-        text = report_with_diagram(build, result, fmt, plot_file, output,
-                                   inputs=[p for p in (build_file, modes_file) if p is not None])
-    if output is not None:
-        write_output(output, text, inputs=[p for p in (build_file, modes_file) if p is not None])
-    else:
-        click.echo(text, nl=False)
+        text = report_with_diagram(build, result, fmt, plot_file, output, inputs=inputs, provenance=prov)
+    emit(text, output, inputs, fmt, prov)
     sys.exit(EXIT_FAIL if result.verdict in FAIL_LEVELS[fail_on] else EXIT_OK)
 
 
@@ -93,6 +92,7 @@ def plot_command(build_file: Path, output: Path, modes_file: Path | None) -> Non
     Needs the [plot] extra (matplotlib).
     """
     from ..analysis.clash import check_build
+    from ..analysis.diagram import diagram_curves
     from ..inputs.buildfile import load_build, load_modes_file
     from ..report.campbell import campbell_data, save_campbell
 
@@ -100,7 +100,10 @@ def plot_command(build_file: Path, output: Path, modes_file: Path | None) -> Non
     if modes_file is not None:
         build = build.with_measured(load_modes_file(modes_file))
     result = check_build(build)
-    save_campbell(output, [campbell_data(build, result)], inputs=[p for p in (build_file, modes_file) if p])
+    inputs = [p for p in (build_file, modes_file) if p]
+    curves = diagram_curves(build, result)
+    save_campbell(output, [campbell_data(build, result, curves, provenance=provenance_of(result.name, inputs))],
+                  inputs=inputs)
     click.echo(f"wrote {output}: {result.name}, verdict {result.verdict}")
 
 

@@ -16,6 +16,7 @@ from ._common import (
     Counts,
     Quantity,
     emit,
+    provenance_of,
 )
 
 
@@ -41,12 +42,13 @@ def compare(build_a: Path, build_b: Path, fmt: str, fail_on: str, no_shift: bool
     from ..report.decide import render_compare
 
     result = compare_builds(load_build(build_a), load_build(build_b), shift_modes=not no_shift)
+    prov = provenance_of(f"{result.a.name} vs {result.b.name}", [build_a, build_b])
     if plot_file is not None:
         from ..report.campbell import campbell_data, save_campbell
 
         save_campbell(plot_file, [campbell_data(result.build_a, result.a), campbell_data(result.build_b, result.b)],
-                      inputs=[build_a, build_b])
-    emit(render_compare(result, fmt, fail_on), output, [build_a, build_b])
+                      inputs=[build_a, build_b], provenance=prov)
+    emit(render_compare(result, fmt, fail_on), output, [build_a, build_b], fmt, prov)
     sys.exit(EXIT_FAIL if result.worse_at(fail_on) else EXIT_OK)
 
 
@@ -102,7 +104,7 @@ def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str |
                          cell_mass_kg=options.pop("cell_mass"),
                          poles=options.pop("poles") or (), cells=options.pop("cells") or (), **options)
     result = run_pick(build, space, top=top)
-    emit(render_pick(result, fmt), output, [build_file])
+    emit(render_pick(result, fmt), output, [build_file], fmt, provenance_of(build.name, [build_file]))
     sys.exit(EXIT_OK if result.top and result.top[0].band_clear else EXIT_FAIL)
 
 

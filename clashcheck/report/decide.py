@@ -456,13 +456,38 @@ def render_check_report(build, result, suggestions, image_ref: str | None) -> st
     return render_markdown(result, sections)
 
 
-def report_with_diagram(build, result, fmt: str, plot_path, report_path=None, *, inputs=()) -> str:
+def report_with_diagram(build, result, fmt: str, plot_path, report_path=None, *, inputs=(),
+                        provenance: str | None = None, curves=None) -> str:
     """Draw the diagram of a check to ``plot_path`` and return the report text.
 
     With ``fmt == "markdown"`` the report is :func:`render_check_report` with
     the diagram embedded (its path relative to ``report_path`` when the report
     goes to a file) and the computed suggestions of :func:`clashcheck.suggest.suggest`;
     otherwise it is the check's own report in that format.
+
+    Parameters
+    ----------
+    build : Build
+        The checked build.
+    result : ClashResult
+        Its check.
+    fmt : str
+        Report format: ``table``, ``json`` or ``markdown``.
+    plot_path : path-like
+        Where the diagram goes.
+    report_path : path-like, optional
+        Where the report goes (for the image's relative path).
+    inputs : sequence of path-like
+        Input files (never overwritten).
+    provenance : str, optional
+        Provenance line printed on the diagram.
+    curves : DiagramCurves, optional
+        The diagram's curves (computed from the build when not given).
+
+    Returns
+    -------
+    str
+        The report text.
 
     Raises
     ------
@@ -476,7 +501,7 @@ def report_with_diagram(build, result, fmt: str, plot_path, report_path=None, *,
 
     if report_path is not None and Path(report_path).resolve() == Path(plot_path).resolve():
         raise OutputError(str(plot_path), "the diagram and the report need different files")
-    save_campbell(plot_path, [campbell_data(build, result)], inputs=inputs)
+    save_campbell(plot_path, [campbell_data(build, result, curves, provenance=provenance)], inputs=inputs)
     if fmt != "markdown":
         return render(result, fmt)
     from ..analysis.suggest import suggest
