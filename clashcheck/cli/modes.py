@@ -16,6 +16,7 @@ from ._common import (
     PATH,
     Quantity,
     emit,
+    provenance_of,
 )
 
 
@@ -71,8 +72,12 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--include-candidates", is_flag=True,
               help="Write peaks below the confidence floor into the modes file too.")
 @click.option("--quiet", "-q", is_flag=True, help="No progress bar.")
+@click.option("--plot", "plot_file", type=PATH,
+              help="Also draw the spectra (.png, .svg, .pdf; needs the [plot] extra); a flight adds a "
+                   "time view beside it (the file name + '-time').")
 def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str | None, fmt: str,
-                  output: Path | None, quiet: bool, include_candidates: bool, **opts) -> None:
+                  output: Path | None, quiet: bool, include_candidates: bool, plot_file: Path | None = None,
+                  **opts) -> None:
     """Find frame modes (frequency, damping, axis) in a tap test or flight recording.
 
     Tap tests are done with the propellers removed. Results are design advice.
@@ -115,9 +120,15 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
                 last[0] = max(last[0], min(done, total))
 
         result = run(tick)
+    inputs = [recording] + ([build_file] if build_file else [])
+    if plot_file is not None:  # matplotlib is imported only on this path
+        from ..report.recording_figures import save_recording_figures
+
+        for path in save_recording_figures(plot_file, result, inputs=inputs,
+                                           provenance=provenance_of(result.recording, inputs)):
+            click.echo(f"wrote {path}", err=True)
     if output is not None:
-        emit(render_toml(result, include_candidates=include_candidates), output,
-             [recording] + ([build_file] if build_file else []))
+        emit(render_toml(result, include_candidates=include_candidates), output, inputs)
     click.echo(render_json(result) if fmt == "json" else render_table(result), nl=False)
 
 

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
 from ..errors import InputError
@@ -137,6 +137,8 @@ class ModesResult:
     candidates: tuple[MeasuredMode, ...] = ()
     #: Measured occupancy of a flight recording (throttle or rotor-rate bands), if known.
     dwell: Dwell | None = None
+    #: What the figures show (:class:`~.views.FlightView` or :class:`~.views.TapView`); not compared.
+    view: object | None = field(default=None, compare=False, repr=False)
 
     def __post_init__(self) -> None:
         if self.kind not in KINDS:
