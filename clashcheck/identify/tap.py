@@ -22,7 +22,7 @@ from __future__ import annotations
 import math
 import os
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -33,6 +33,7 @@ from .damping import corrected_half_power, sdof_fit, transient_model
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
 from .result import MeasuredMode, ModesResult
+from .views import TapView
 
 __all__ = ["TapSettings", "analyse_tap", "detect_impacts", "MAX_SEGMENT_S", "ONSET_RATIO",
            "MAX_TAP_ROWS", "SIGNIFICANCE"]
@@ -240,6 +241,7 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
     if double.size:
         warnings.append(f"{double.size} double hits (two taps within {0.3 * typical / fs:.2g} s) "
                         "were left out")
+    rejected = tuple((int(o), "double hit") for o in onsets[~keep])  # for the figure
     onsets, gaps = onsets[keep], gaps[keep]
     if onsets.size == 0:
         raise RecordingError(recording.path, "", "every impact was a double hit")
@@ -379,4 +381,5 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
     # damping against amplitude per mode (issue 14), kept apart in .decay
     from .decay import with_amplitude_damping
 
-    return with_amplitude_damping(result, x, onsets, pre)
+    result = with_amplitude_damping(result, x, onsets, pre)
+    return replace(result, view=TapView(fb, pb, floor, noise, fs, x, onsets, rejected, pre))
