@@ -363,7 +363,10 @@ def spread_labels(texts, renderer, axis: str = "y", pad_px: float = 1.5, lo_px: 
         return []
     dpi = texts[0].figure.dpi
     i0, i1 = (0, 2) if axis == "x" else (1, 3)
-    boxes = sorted(((t.get_window_extent(renderer).extents, t) for t in texts), key=lambda bt: bt[0][i0])
+    from matplotlib.text import Text
+
+    # the text's own box: an annotation's extent also holds its leader line
+    boxes = sorted(((Text.get_window_extent(t, renderer).extents, t) for t in texts), key=lambda bt: bt[0][i0])
     end = -math.inf if lo_px is None else lo_px - pad_px
     hidden = []
     for ext, t in boxes:
