@@ -95,6 +95,10 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
     )
     from ..report.modes import render_json, render_table, render_toml
 
+    if plot_file is not None:  # refuse a bad target before the analysis
+        from ..report.recording_figures import check_plot_target
+
+        check_plot_target(plot_file, [recording] + ([build_file] if build_file else []), kind)
     columns = _modes_columns(opts.pop("signal"), opts.pop("time_column"), opts.pop("time_unit"),
                              opts.pop("rate"), opts.pop("throttle_column"), opts.pop("rpm_columns"),
                              opts.pop("rpm_unit"), opts["poles"])

@@ -574,10 +574,13 @@ def load_modes_file(path: str | Path) -> MeasuredModes:
         occupancy = None
         dwell = f.table(data, "dwell", "")
         if dwell is not None:
-            f.check_keys(dwell, ("throttle", "share", "source"), "dwell")
+            f.check_keys(dwell, ("throttle", "rotor_hz", "share", "source"), "dwell")
             f.text(dwell, "source", "dwell")
-            occupancy = ThrottleOccupancy(_numbers(dwell, "throttle", "dwell"), _numbers(dwell, "share", "dwell"),
-                                          str(path))
+            # a flight binned by rotor rate writes rotor_hz edges; only a throttle occupancy
+            # becomes dwell zones (where the flight and verdict work meet: accepted, not used)
+            if "throttle" in dwell or "rotor_hz" not in dwell:
+                occupancy = ThrottleOccupancy(_numbers(dwell, "throttle", "dwell"),
+                                              _numbers(dwell, "share", "dwell"), str(path))
     except InputError as exc:  # name the modes file, not only the field
         raise InputError(f"{path}: {exc.field}", exc.expected, exc.got, exc.hint) from None
     return MeasuredModes(tuple(modes), strengths, str(path), occupancy)

@@ -526,7 +526,7 @@ def draw_campbell(data: CampbellData, ax, *, note_aliases: bool = True, place: b
         place_labels(ax)
 
 
-def place_labels(ax) -> None:
+def place_labels(ax, draw: bool = True) -> None:
     """The placement pass of one diagram: mode labels up the left edge, order labels up the
     right edge and along the top, moved apart on the canvas (call once the layout is final).
 
@@ -534,11 +534,14 @@ def place_labels(ax) -> None:
     ----------
     ax : matplotlib.axes.Axes
         An axes drawn by :func:`draw_campbell`.
+    draw : bool
+        Draw the canvas first (not needed right after a draw with the final layout).
     """
     labels = getattr(ax, "_clashcheck_labels", None)
     if not labels:
         return
-    ax.figure.canvas.draw()
+    if draw:
+        ax.figure.canvas.draw()
     renderer = ax.figure.canvas.get_renderer()
     box = ax.get_window_extent(renderer)
     spread_labels(labels["mode"], renderer, "y", hi_px=box.y1)
@@ -651,7 +654,7 @@ def make_figure(datas, provenance: str | None = None) -> object:
     fig.canvas.draw()               # the constrained layout settles here ...
     fig.set_layout_engine("none")   # ... and is frozen, so the placement pass sees final positions
     for ax in axes:
-        place_labels(ax)
+        place_labels(ax, draw=False)
     return fig
 
 

@@ -189,9 +189,8 @@ def flight_figure(result, provenance: str | None = None):
     title = f"{result.recording}: spectra against " + ("rotor speed" if rotor else "throttle (no rotor rate)")
     fig.suptitle(title, fontsize=9.5, x=0.01, ha="left")
     _footer(fig, provenance)
-    fig.canvas.draw()
-    fig.set_layout_engine("none")
-    fig.canvas.draw()
+    fig.canvas.draw()               # the constrained layout settles here ...
+    fig.set_layout_engine("none")   # ... and is frozen for the placement pass
     renderer = fig.canvas.get_renderer()
     for ax, labels, tops in label_groups:
         box = ax.get_window_extent(renderer)
@@ -262,9 +261,8 @@ def time_figure(result, provenance: str | None = None):
     tr.set_xlim(te[0], te[-1])
     fig.legend(*_merged(ax, tr), loc="outside lower right", fontsize=7, frameon=False, ncol=2)
     _footer(fig, provenance)
-    fig.canvas.draw()
-    fig.set_layout_engine("none")
-    fig.canvas.draw()
+    fig.canvas.draw()               # the constrained layout settles here ...
+    fig.set_layout_engine("none")   # ... and is frozen for the placement pass
     renderer = fig.canvas.get_renderer()
     spread_labels(labels, renderer, "y", hi_px=ax.get_window_extent(renderer).y1)
     return fig

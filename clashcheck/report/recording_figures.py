@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-__all__ = ["save_recording_figures"]
+__all__ = ["save_recording_figures", "check_plot_target"]
 
 
 def save_recording_figures(path, result, *, decays=(), inputs=(), provenance: str | None = None) -> list:
@@ -33,3 +33,37 @@ def save_recording_figures(path, result, *, decays=(), inputs=(), provenance: st
     from .tap_figure import save_tap_figure
 
     return save_tap_figure(path, result, decays, inputs=inputs, provenance=provenance)
+
+
+def check_plot_target(path, inputs=(), kind: str = "tap") -> None:
+    """Refuse a figure path before the analysis: wrong suffix, missing folder, or an input's path.
+
+    Parameters
+    ----------
+    path : path-like
+        The figure's file.
+    inputs : sequence of path-like
+        Input files (never overwritten).
+    kind : str
+        ``tap`` or ``flight`` (a flight also writes the time view beside ``path``).
+
+    Raises
+    ------
+    InputError
+        For a suffix other than .png, .svg or .pdf.
+    OutputError
+        When a target cannot be written or is an input.
+    """
+    from pathlib import Path
+
+    from ..errors import InputError
+    from ..files import check_target
+    from .campbell import PLOT_FORMATS
+
+    if Path(path).suffix.lower().lstrip(".") not in PLOT_FORMATS:
+        raise InputError("--plot", "a file name ending in " + ", ".join("." + s for s in PLOT_FORMATS), str(path))
+    check_target(Path(path), inputs)
+    if kind == "flight":
+        from .flight_figure import time_path
+
+        check_target(time_path(path), inputs)

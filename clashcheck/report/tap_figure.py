@@ -183,9 +183,8 @@ def tap_figure(result, decays=(), provenance: str | None = None):
     if provenance:
         fig.text(0.005, 0.002, provenance, fontsize=6, ha="left", va="bottom", color="#666666",
                  gid="label:provenance")
-    fig.canvas.draw()
-    fig.set_layout_engine("none")
-    fig.canvas.draw()
+    fig.canvas.draw()               # the constrained layout settles here ...
+    fig.set_layout_engine("none")   # ... and is frozen for the placement pass
     renderer = fig.canvas.get_renderer()
     box = ax.get_window_extent(renderer)
     spread_labels(labels, renderer, "x", lo_px=box.x0, hi_px=box.x1 + 20)
