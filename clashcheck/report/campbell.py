@@ -467,9 +467,10 @@ def draw_campbell(data: CampbellData, ax, *, note_aliases: bool = True, place: b
     for a in data.aliases:
         colour = FAMILY_COLOURS.get(a.family, "#000000")
         ax.plot(a.rpm, a.apparent_hz, color=colour, lw=0.8, ls=(0, (3, 2)), zorder=4, gid=f"alias:{a.label}")
-    if data.nyquist_hz is not None:
+    if data.aliases:
         ax.plot([], [], color="#666666", lw=0.8, ls=(0, (3, 2)),
                 label="aliased order as the sensor sees it (dashed, in its family's colour)")
+    if data.nyquist_hz is not None:
         if note_aliases:
             ax.set_title(f"aliased orders: {len(data.aliases)} drawn,\n{data.aliases_left_out} left out "
                          f"(weight floor {data.weight_floor:g})", loc="right", fontsize=6, color="#555555",
@@ -638,8 +639,10 @@ def make_figure(datas, provenance: str | None = None) -> object:
     fig.get_layout_engine().set(h_pad=0.06, w_pad=0.06)
     axes = list(fig.subplots(len(datas), 1, squeeze=False)[:, 0])
     top = max(d.y_max_hz for d in datas)
+    # one frequency scale, and one rotor-speed scale, for both builds of a compare
+    lo, hi = min(d.rpm_low for d in datas), max(d.rpm_high for d in datas)
     for ax, d in zip(axes, datas):
-        draw_campbell(replace(d, y_max_hz=top), ax, place=False)
+        draw_campbell(replace(d, y_max_hz=top, rpm_low=lo, rpm_high=hi), ax, place=False)
     handles, labels = _legend_entries(axes)
     if len(datas) == 1:
         fig.legend(handles, labels, loc="outside right upper", fontsize=7, frameon=False, handlelength=2.4)

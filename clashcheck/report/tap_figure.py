@@ -98,7 +98,7 @@ def tap_figure(result, decays=(), provenance: str | None = None):
         ax.plot([c.frequency_hz], [y], marker="v", mfc="none", mec=_CANDIDATE, ms=5, ls="none",
                 gid=f"candidate:{c.name}", label="candidate below the confidence floor" if j == 0 else None)
     top = float(np.max(spec_db))
-    ax.set_ylim(float(np.percentile(spec_db, 1)) - 5, top + 12)
+    ax.set_ylim(float(np.percentile(spec_db, 1)) - 5, top + 18)  # room for the two-line peak labels
     highest = max((m.frequency_hz for m in result.modes), default=f[-1])
     ax.set_xlim(f[0], min(f[-1], max(1.6 * highest, 0.25 * f[-1])))
     ax.set_xlabel("frequency (Hz)", fontsize=8)
