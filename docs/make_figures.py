@@ -35,6 +35,15 @@ RUNS = [
 ]
 
 
+def _shrink(png: Path) -> None:
+    """Store a line figure with a 256-colour palette (keeps the repository small; it uses few colours)."""
+    from PIL import Image
+
+    with Image.open(png) as im:
+        small = im.convert("RGB").quantize(colors=256, method=Image.Quantize.MEDIANCUT, dither=Image.Dither.NONE)
+    small.save(png, optimize=True)
+
+
 def main() -> int:
     """Run every figure command; return 0 when all of them wrote their figure."""
     from click.testing import CliRunner
@@ -50,6 +59,8 @@ def main() -> int:
             print(f"failed ({res.exit_code}): clashcheck {' '.join(args)}\n{res.stderr}", file=sys.stderr)
             failed += 1
     for png in sorted(OUT.glob("*.png")):
+        if not png.name.startswith("flight"):   # the spectra maps keep their full colour scale
+            _shrink(png)
         print(f"{png.relative_to(ROOT)}  {png.stat().st_size // 1024} KB")
     return 1 if failed else 0
 

@@ -126,10 +126,10 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
         result = run(tick)
     inputs = [recording] + ([build_file] if build_file else [])
     if plot_file is not None:  # matplotlib is imported only on this path
-        from ..identify.views import decay_views
+        from ..identify.views import TapView, decay_views
         from ..report.recording_figures import save_recording_figures
 
-        decays = decay_views(result.view, result.modes) if kind == "tap" else ()
+        decays = decay_views(result.view, result.modes) if isinstance(result.view, TapView) else ()
         for path in save_recording_figures(plot_file, result, decays=decays, inputs=inputs,
                                            provenance=provenance_of(result.recording, inputs)):
             click.echo(f"wrote {path}", err=True)

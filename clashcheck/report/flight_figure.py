@@ -91,7 +91,8 @@ def flight_figure(result, provenance: str | None = None):
     fe = np.r_[f - 0.5 * df, f[-1] + 0.5 * df]
     levels = _db(view.binned)
     vmin, vmax = np.nanpercentile(levels, 5), np.nanpercentile(levels, 99.7)
-    maps, panels = [], []
+    maps: list = []
+    panels: list = []
     label_groups = []
     mesh = None
     for i, axis in enumerate(view.axes):
