@@ -53,9 +53,9 @@ def content_hash(blobs: Iterable[bytes], length: int = 8) -> str:
 
 
 def _version() -> str:
-    from .. import __version__
+    import clashcheck  # the package's own version (the root package sits below every layer)
 
-    return str(__version__)
+    return str(clashcheck.__version__)
 
 
 @dataclass(frozen=True)
