@@ -30,7 +30,7 @@ from clashcheck.inputs.catalog import load_catalog
 from clashcheck.model.battery import PACK_STATES, Chemistry, Pack
 from clashcheck.model.drive import Drive
 from clashcheck.model.excitation import Sensor, build_orders, fold
-from clashcheck.model.modes import MarginPolicy, Mode, magnification, relative_margin
+from clashcheck.model.modes import MarginPolicy, Mode, relative_margin
 from clashcheck.model.motor import Motor
 from clashcheck.model.propeller import Propeller
 

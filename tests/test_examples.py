@@ -196,8 +196,9 @@ def test_1x_crossings_match_the_hand_computation(runner, path):
                 compared[state] += 1
             else:
                 assert w["crossing_throttle"] is None
-    if any(sm > 0 for _, sm in hand.modes.values()):
+    if any(sm > 0 for _, sm in hand.modes.values()) and data["verdict"] != "clear":
         assert all(compared[s] >= 1 for s in data["hover"]), compared
+    # a clear build: the hand computation puts every 1× margin band outside [idle, max] (checked above)
 
 
 @pytest.mark.parametrize("path", EXAMPLES, ids=[p.stem for p in EXAMPLES])

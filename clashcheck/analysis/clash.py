@@ -321,6 +321,7 @@ def operating_bands(
     dwell_spread: float = 0.03,
     cruise_dwell: bool = False,
     measured_dwell: Sequence[tuple[float, float]] | None = None,
+    measured_dwell_hz: bool = False,
 ) -> tuple[OperatingBand, ...]:
     """Hover, operating band and dwell zones per pack state.
 
@@ -350,6 +351,9 @@ def operating_bands(
     measured_dwell : sequence of (low, high), optional
         Dwell zones from a measured throttle occupancy [fraction]; they
         replace the hover and cruise zones at every pack state.
+    measured_dwell_hz : bool
+        When true, ``measured_dwell`` holds rotor-rate bands [Hz], turned into
+        throttles per pack state with the inverse drive model (rising side).
 
     Returns
     -------
@@ -369,7 +373,11 @@ def operating_bands(
         if math.isnan(low):
             pass
         elif measured_dwell is not None:
-            dwell = [("measured", max(idle, a), min(throttle_max, b)) for a, b in measured_dwell]
+            spans = list(measured_dwell)
+            if measured_dwell_hz:
+                edges = drive.throttle_at(np.array(spans, dtype=float), state)
+                spans = [(float(a), float(b)) for a, b in np.minimum(edges, throttle_max)]
+            dwell = [("measured", max(idle, a), min(throttle_max, b)) for a, b in spans]
         else:
             if hover.how == "unknown":
                 dwell.append(("operating band", low, high))
@@ -407,9 +415,9 @@ def _min_margin(intervals: list[tuple[float, float]], mode: Mode) -> float:
 
 
 @functools.lru_cache(maxsize=256)
-def _peak(drive: Drive, state: str) -> tuple[float, float]:
-    """Peak rotor rate [Hz] and its throttle at one pack state (cached: one eigenproblem per drive)."""
-    peak_hz, peak_d = rotor_peak(drive.pack.voltage(state), drive.parameters.as_kwargs())
+def _peak(drive: Drive, state: str, throttle_max: float) -> tuple[float, float]:
+    """Peak rotor rate [Hz] and its throttle below ``throttle_max`` at one pack state (``inf`` without one; cached)."""
+    peak_hz, peak_d = rotor_peak(drive.pack.voltage(state), drive.parameters.as_kwargs(), throttle_max)
     return float(peak_hz), float(peak_d)
 
 
@@ -452,50 +460,78 @@ def find_windows(
         the rising side of the rotor rate and, with pack sag, one on the
         falling side.
     """
+    return _windows_of(drive, mode, (order,), band, policy, idle, throttle_max, sensor, significance_floor)[0]
+
+
+def _windows_of(
+    drive: Drive,
+    mode: Mode,
+    orders: Sequence[Order],
+    band: OperatingBand,
+    policy: MarginPolicy,
+    idle: float,
+    throttle_max: float,
+    sensor: Sensor | None,
+    significance_floor: float,
+) -> list[list[Window]]:
+    """:func:`find_windows` for several orders at once (one array pass); a list of windows per order."""
+    out: list[list[Window]] = [[] for _ in orders]
     state = band.pack_state
     sm = policy.required_margin(mode)
     zeta, _ = policy.damping_of(mode)
     af = amplification_factor(zeta)
     assert mode.frequency_low_hz is not None and mode.frequency_high_hz is not None
     band_lo_hz, band_hi_hz = margin_band(mode.frequency_low_hz, mode.frequency_high_hz, sm)
-    if band_hi_hz <= band_lo_hz:
-        return []
-    n = order.order
+    if band_hi_hz <= band_lo_hz or not orders:
+        return out
     params = drive.parameters.as_kwargs()
     v_oc = drive.pack.voltage(state)
-    peak = _peak(drive, state)
+    peak = _peak(drive, state, throttle_max)
     top_rotor_hz = float(rotor_range_hz(idle, throttle_max, v_oc, params, peak)[1])
 
-    # (zone, true band low, true band high, true frequency at the mode's nominal)
-    images: list[tuple[int, float, float, float | None]] = [(0, band_lo_hz, band_hi_hz, mode.frequency_hz)]
-    if sensor is not None:
+    # one row per (order, image): order index, zone, true band low, true band high, true frequency at nominal
+    rows: list[tuple[int, int, float, float, float]] = []
+    seen_images: list[tuple[int, float, float, float]] = [(0, band_lo_hz, band_hi_hz, mode.frequency_hz)]
+    for oi, order in enumerate(orders):
+        rows.append((oi, *seen_images[0]))
+        if sensor is None:
+            continue
         fs = sensor.sample_rate_hz
         for zone, a, b in alias_images(
-            band_lo_hz, band_hi_hz, fs, min(n * top_rotor_hz, MAX_ALIAS_MULTIPLE * fs)
+            band_lo_hz, band_hi_hz, fs, min(order.order * top_rotor_hz, MAX_ALIAS_MULTIPLE * fs)
         ):
             m = (zone + 1) // 2
             nominal = m * fs - mode.frequency_hz if zone % 2 else m * fs + mode.frequency_hz
-            images.append((zone, a, b, nominal if mode.frequency_hz <= sensor.nyquist_hz else None))
+            rows.append((oi, zone, a, b, nominal if mode.frequency_hz <= sensor.nyquist_hz else math.nan))
 
     hover = band.hover
     hover_known = not math.isnan(hover.rotor_hz) and hover.can_hover
-    true_hz = np.array([[f_a, f_b, math.nan if f_nom is None else f_nom] for _, f_a, f_b, f_nom in images])
-    omega = (true_hz / n) * TWO_PI       # band low, band high, nominal: both roots in one call each
+    table = np.array(rows, dtype=float)
+    order_of = table[:, 0].astype(int)
+    alias_zones = table[:, 1].astype(int)
+    true_hz = table[:, 2:5]
+    numbers = np.array([o.order for o in orders])[order_of]
+    omega = (true_hz / numbers[:, None]) * TWO_PI     # band low, band high, nominal: both roots in one call each
     with np.errstate(invalid="ignore"):
         up = throttle_at_rad_s(omega, v_oc, **params)
         down = throttle_fall_rad_s(omega, v_oc, **params)
     rise_lo, rise_hi, fall_lo, fall_hi = windows_from_roots(up[:, 0], up[:, 1], down[:, 0], down[:, 1], idle,
                                                             throttle_max)
-    if not (np.any(rise_lo < rise_hi) or np.any(fall_lo < fall_hi)):
-        return []
+    n_rows = len(rows)
+    lows = np.concatenate([rise_lo, fall_lo])          # rising windows, then falling ones
+    highs = np.concatenate([rise_hi, fall_hi])
+    some = np.nonzero(lows < highs)[0]
+    if some.size == 0:
+        return out
     d_nominal = {"rising": up[:, 2], "falling": down[:, 2]}
 
-    # Margin at hover and across the band: one figure for the direct line and
-    # one for its fold, shared by every image of the same kind.
-    seen: dict[bool, tuple[float | None, float | None, float | None]] = {}
+    # Margin at hover and across the band: one figure per order for the direct line and one for its
+    # fold, shared by every image of the same kind.
+    seen: dict[tuple[int, bool], tuple[float | None, float | None, float | None]] = {}
 
-    def margins(aliased: bool) -> tuple[float | None, float | None, float | None]:
-        if aliased not in seen:
+    def margins(oi: int, aliased: bool) -> tuple[float | None, float | None, float | None]:
+        if (oi, aliased) not in seen:
+            n = orders[oi].order
             margin_hover = mag = worst = None
             if hover_known:
                 f_hover = n * hover.rotor_hz
@@ -506,75 +542,74 @@ def find_windows(
                 f_band = n * drive.rotor_hz(np.array([band.throttle_low, band.throttle_high]), state)
                 pieces = _apparent_range(float(f_band[0]), float(f_band[1]), sensor if aliased else None)
                 worst = _min_margin(pieces, mode)
-            seen[aliased] = (margin_hover, mag, worst)
-        return seen[aliased]
+            seen[(oi, aliased)] = (margin_hover, mag, worst)
+        return seen[(oi, aliased)]
 
     zones = band.dwell or (("none", 1.0, 0.0),)
     zone_lo = np.array([z[1] for z in zones])
     zone_hi = np.array([z[2] for z in zones])
     code_name = {v: k for k, v in LEVEL_CODES.items()}
-    alias_zones = np.array([zone for zone, _a, _b, _n in images])
-    weights = np.full(len(images), float(order.weight))
-    if sensor is not None and len(images) > 1:
-        mid = 0.5 * (true_hz[1:, 0] + true_hz[1:, 1])
-        weights[1:] = seen_weight(order.weight, np.asarray(sensor.gain(mid), dtype=float))
+    weights = np.array([o.weight for o in orders])[order_of]
+    if sensor is not None:
+        aliased_rows = alias_zones > 0
+        if np.any(aliased_rows):
+            mid = 0.5 * (true_hz[aliased_rows, 0] + true_hz[aliased_rows, 1])
+            weights[aliased_rows] = seen_weight(weights[aliased_rows], np.asarray(sensor.gain(mid), dtype=float))
     fs = sensor.sample_rate_hz if sensor is not None else 0.0
-    out = []
-    n_img = len(images)
-    lows = np.concatenate([rise_lo, fall_lo])          # rising windows, then falling ones
-    highs = np.concatenate([rise_hi, fall_hi])
-    some = np.nonzero(lows < highs)[0]
-    if some.size:
-        image_of = some % n_img
-        rule = window_levels(lows[some], highs[some], n, v_oc, params, peak, zone_lo, zone_hi, weights[image_of],
-                             mode.frequency_low_hz, mode.frequency_high_hz, zeta, significance_floor,
-                             alias_zones[image_of], fs)
-        for j, k in enumerate(some):
-            side = "rising" if k < n_img else "falling"
-            i = int(k % n_img)
-            zone = int(images[i][0])
-            low, high = float(lows[k]), float(highs[k])
-            d_c = float(d_nominal[side][i])
-            crossing = d_c if idle <= d_c <= throttle_max else None
-            margin_hover, mag, worst = margins(bool(zone))
-            touches = band.flies and low <= band.throttle_high and band.throttle_low <= high
-            weight = float(weights[i])
-            in_dwell = bool(rule["in_dwell"][j])
-            dz = zones[int(rule["dwell_index"][j])] if in_dwell else None
-            significance = float(rule["significance"][j])
-            out.append(
-                Window(
-                    mode=mode.name,
-                    family=order.family,
-                    order=n,
-                    label=order.label,
-                    pack_state=state,
-                    throttle_low=low,
-                    throttle_high=high,
-                    crossing_throttle=crossing,
-                    required_margin=sm,
-                    margin_at_hover=margin_hover,
-                    worst_margin_in_band=worst,
-                    magnification_at_hover=mag,
-                    aliased=bool(zone),
-                    nyquist_zone=zone,
-                    touches_operating_band=bool(touches),
-                    weight=weight,
-                    severity=weight * af,
-                    excitation_low_hz=float(n * rule["rotor_low_hz"][j]),
-                    excitation_high_hz=float(n * rule["rotor_high_hz"][j]),
-                    lies_in="dwell" if in_dwell else "passage",
-                    significance=significance,
-                    significant=bool(significance >= significance_floor),
-                    level=code_name[int(rule["level"][j])],
-                    dwell_zone=None if dz is None else dz[0],
-                    dwell_low=None if dz is None else dz[1],
-                    dwell_high=None if dz is None else dz[2],
-                    margin_in_part=float(rule["margin"][j]),
-                    side=side,
-                )
+    row_of = some % n_rows
+    rule = window_levels(lows[some], highs[some], numbers[row_of], v_oc, params, peak, zone_lo, zone_hi,
+                         weights[row_of], mode.frequency_low_hz, mode.frequency_high_hz, zeta, significance_floor,
+                         alias_zones[row_of], fs)
+    for j, k in enumerate(some):
+        side = "rising" if k < n_rows else "falling"
+        i = int(k % n_rows)
+        oi = int(order_of[i])
+        order = orders[oi]
+        n = order.order
+        zone = int(alias_zones[i])
+        low, high = float(lows[k]), float(highs[k])
+        d_c = float(d_nominal[side][i])
+        crossing = d_c if idle <= d_c <= throttle_max else None
+        margin_hover, mag, worst = margins(oi, bool(zone))
+        touches = band.flies and low <= band.throttle_high and band.throttle_low <= high
+        weight = float(weights[i])
+        in_dwell = bool(rule["in_dwell"][j])
+        dz = zones[int(rule["dwell_index"][j])] if in_dwell else None
+        significance = float(rule["significance"][j])
+        out[oi].append(
+            Window(
+                mode=mode.name,
+                family=order.family,
+                order=n,
+                label=order.label,
+                pack_state=state,
+                throttle_low=low,
+                throttle_high=high,
+                crossing_throttle=crossing,
+                required_margin=sm,
+                margin_at_hover=margin_hover,
+                worst_margin_in_band=worst,
+                magnification_at_hover=mag,
+                aliased=bool(zone),
+                nyquist_zone=zone,
+                touches_operating_band=bool(touches),
+                weight=weight,
+                severity=weight * af,
+                excitation_low_hz=float(n * rule["rotor_low_hz"][j]),
+                excitation_high_hz=float(n * rule["rotor_high_hz"][j]),
+                lies_in="dwell" if in_dwell else "passage",
+                significance=significance,
+                significant=bool(significance >= significance_floor),
+                level=code_name[int(rule["level"][j])],
+                dwell_zone=None if dz is None else dz[0],
+                dwell_low=None if dz is None else dz[1],
+                dwell_high=None if dz is None else dz[2],
+                margin_in_part=float(rule["margin"][j]),
+                side=side,
             )
-    out.sort(key=lambda w: (w.side != "rising", w.nyquist_zone))
+        )
+    for group in out:
+        group.sort(key=lambda w: (w.side != "rising", w.nyquist_zone))
     return out
 
 
@@ -677,6 +712,7 @@ def analyse(
     cruise_dwell: bool = False,
     measured_dwell: Sequence[tuple[float, float]] | None = None,
     significance_floor: float = SIGNIFICANCE_FLOOR,
+    measured_dwell_hz: bool = False,
 ) -> ClashResult:
     """Run the whole clash check.
 
@@ -718,6 +754,8 @@ def analyse(
         Dwell zones from a measured throttle occupancy [fraction].
     significance_floor : float
         Weight after the filter × magnification an order needs to make a clash.
+    measured_dwell_hz : bool
+        Whether ``measured_dwell`` holds rotor-rate bands [Hz] instead of throttles.
 
     Returns
     -------
@@ -726,7 +764,8 @@ def analyse(
         margins at hover and cruise, findings and the verdict.
     """
     bands = operating_bands(drive, mass_kg, pack_states, idle, cruise, stated_hover, throttle_max=throttle_max,
-                            dwell_spread=dwell_spread, cruise_dwell=cruise_dwell, measured_dwell=measured_dwell)
+                            dwell_spread=dwell_spread, cruise_dwell=cruise_dwell, measured_dwell=measured_dwell,
+                            measured_dwell_hz=measured_dwell_hz)
     findings = tuple(
         CheckFinding("cannot_hover", "clash", b.pack_state, b.hover.throttle)
         for b in bands if b.hover.how != "unknown" and not b.hover.can_hover
@@ -747,9 +786,8 @@ def analyse(
                 f"hover ({100 * b.hover.throttle:.0f} %) sits above cruise ({100 * cruise:.0f} %) "
                 f"at the {b.pack_state} pack"
             )
-    params = drive.parameters.as_kwargs()
     for state in pack_states:  # past the pack's maximum-power point the rate falls with throttle
-        peak_hz, peak_d = _peak(drive, state)
+        peak_hz, peak_d = _peak(drive, state, throttle_max)
         if idle < peak_d < throttle_max:
             found_notes.append(
                 f"at the {state} pack the rotor rate peaks at {float(peak_hz):.1f} Hz near "
@@ -770,9 +808,9 @@ def analyse(
         sm = policy.required_margin(mode)
         windows = []
         for band in bands:
-            for order in orders:
-                for w in find_windows(drive, mode, order, band, policy, idle, throttle_max, sensor,
-                                      significance_floor):
+            for per_order in _windows_of(drive, mode, orders, band, policy, idle, throttle_max, sensor,
+                                         significance_floor):
+                for w in per_order:
                     if w.aliased and not above_floor(w.weight, weight_floor):
                         faint += 1
                     else:
@@ -878,4 +916,5 @@ def check_build(build) -> ClashResult:
         cruise_dwell=fl.cruise_dwell,
         measured_dwell=None if fl.occupancy is None else fl.occupancy.dwell_zones(),
         significance_floor=build.check.significance_floor,
+        measured_dwell_hz=fl.occupancy is not None and fl.occupancy.quantity == "rotor_hz",
     )

@@ -24,7 +24,8 @@ each candidate's tip mass (:mod:`clashcheck.shift`).
 Ranking (lexicographic, best first):
 
 1. the craft hovers at every pack state checked;
-2. the operating band is clear at every pack state (no clash window touches it);
+2. no clash at any pack state: no significant order within its margin in a dwell zone
+   (the verdict rule of :func:`clashcheck.analysis.windows.window_levels`);
 3. hover lies within the hover range (default 25 % to 50 %) at every pack
    state, which keeps headroom and throttle resolution;
 4. the *peak weighted response*, lower first: the largest order weight × the
@@ -424,7 +425,8 @@ def search_space(
         notes.append("pinned: " + ", ".join(pins))
     if cells and cell_mass_kg is None:
         notes.append("the all-up mass is held when the cell count changes (no --cell-mass given)")
-    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, tuple(hover_range), cell_mass_kg, tuple(notes))
+    low_h, high_h = hover_range
+    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, (low_h, high_h), cell_mass_kg, tuple(notes))
 
 
 # ---------------------------------------------------------------------------
@@ -483,7 +485,7 @@ class Scores:
 
     #: Hovers at every pack state (or hover unknown, band from idle).
     flies: np.ndarray
-    #: No clash window touches the operating band at any pack state.
+    #: No clash-level window (a significant order in a dwell zone) at any pack state.
     band_clear: np.ndarray
     #: Hover within the hover range at every pack state.
     hover_in_range: np.ndarray
@@ -494,7 +496,7 @@ class Scores:
     worst_margin: np.ndarray
     #: Hover throttle per pack state [fraction] (candidates × states; ``nan`` unknown, > 1 unreachable).
     hover_throttle: np.ndarray
-    #: Number of clash windows touching the operating band (direct and aliased).
+    #: Number of clash-level windows (significant, in a dwell zone; direct and aliased).
     clash_count: np.ndarray
     #: All-up mass [kg].
     mass_kg: np.ndarray
@@ -570,7 +572,6 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
     rho = build.density_kg_m3()
     volts = np.array([build.pack.chemistry.cell_voltage(s) for s in states])
     modes = build.modes
-    f_nom0 = np.array([m.frequency_hz for m in modes])
     f_lo0 = np.array([m.frequency_low_hz for m in modes])
     f_hi0 = np.array([m.frequency_high_hz for m in modes])
     zeta_known = np.array([m.damping is not None for m in modes])
@@ -653,13 +654,11 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         present = ax.order_present[ax.combo[sl]]        # (c, K): False where a row is padded
         p4 = present[:, None, None, :]
         o4 = order[:, None, None, :]
-        bl4 = band_lo[:, :, None, None]
-        bh4 = band_hi[:, :, None, None]
         fly4 = flies_s[:, :, None, None]
 
         # dwell zones per (candidate, state), as clash.operating_bands: (c, S, Z)
-        zone_lo, zone_hi = _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi)
-        peak = rotor_peak(v, drive)                                   # (c, S, 1, 1) each
+        zone_lo, zone_hi = _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi, v, drive)
+        peak = rotor_peak(v, drive, fl.max)                           # (c, S, 1, 1) each
 
         # direct windows, as clash.find_windows: band edges → throttle on both sides of any
         # rotor-rate peak, clipped to [idle, max]; a clash is a significant window in a dwell zone
@@ -667,10 +666,10 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
         clash_count = np.zeros(c, dtype=np.int64)
         for low, high in _pairs(throttle_windows(band_f_lo[:, None, :, None], band_f_hi[:, None, :, None], o4,
                                                  v, fl.idle, fl.max, drive)):
-            rule = window_levels(low, high, o4, v, drive, peak, zone_lo[:, :, None, None, :],
-                                 zone_hi[:, :, None, None, :], weight[:, None, None, :], f_lo[:, None, :, None],
-                                 f_hi[:, None, :, None], zeta[:, None, :, None], sig_floor)
-            clash_count += (ok & (rule["level"] == 2)).sum(axis=(1, 2, 3))
+            clash_count += _clash_count(ok & (low < high), low, high, o4, v, drive, peak,
+                                        zone_lo[:, :, None, None, :], zone_hi[:, :, None, None, :],
+                                        weight[:, None, None, :], f_lo[:, None, :, None], f_hi[:, None, :, None],
+                                        zeta[:, None, :, None], sig_floor, c)
 
         # excitation over the operating band (true frequency) and its peak response
         rotor_lo = rotor_rad_s(band_lo[:, :, None, None], v, **drive) / TWO_PI
@@ -726,20 +725,49 @@ def score_candidates(build, space: SearchSpace, *, block: int = _BLOCK) -> Score
     )
 
 
+def _clash_count(mask, low, high, order, v, drive, peak, zone_lo, zone_hi, weight, f_lo, f_hi, zeta, sig_floor,
+                 n_candidates):
+    """Clash-level windows per candidate, by :func:`~clashcheck.analysis.windows.window_levels` on the
+    windows that exist only (``mask``, candidate axis first); the other arguments broadcast with ``low``."""
+    idx = np.nonzero(mask)
+    if idx[0].size == 0:
+        return np.zeros(n_candidates, dtype=np.int64)
+    shape = mask.shape
+
+    def pick_out(x):
+        return np.broadcast_to(np.asarray(x, dtype=float), shape)[idx] if np.ndim(x) else x
+
+    zshape = shape + (np.shape(zone_lo)[-1],)
+    rule = window_levels(pick_out(low), pick_out(high), pick_out(order), pick_out(v),
+                         {k: pick_out(x) for k, x in drive.items()}, (pick_out(peak[0]), pick_out(peak[1])),
+                         np.broadcast_to(zone_lo, zshape)[idx], np.broadcast_to(zone_hi, zshape)[idx],
+                         pick_out(weight), pick_out(f_lo), pick_out(f_hi), pick_out(zeta), sig_floor)
+    return np.bincount(idx[0][rule["level"] == 2], minlength=n_candidates).astype(np.int64)
+
+
 def _pairs(windows):
     """The (low, high) pairs of :func:`~clashcheck.analysis.windows.throttle_windows`: rising, falling."""
     rise_lo, rise_hi, fall_lo, fall_hi = windows
     return ((rise_lo, rise_hi), (fall_lo, fall_hi))
 
 
-def _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi):
+def _dwell_zones(fl, d_hover, known_hover, can, band_lo, band_hi, v, drive):
     """Dwell zones per (candidate, state) as :func:`clashcheck.analysis.clash.operating_bands` sets them.
 
     Returns (zone_lo, zone_hi), each (c, S, Z); an unused slot has low > high.
     """
     c, n_states = d_hover.shape
     flies = ~np.isnan(band_lo)
-    if fl.occupancy is not None:
+    if fl.occupancy is not None and fl.occupancy.quantity == "rotor_hz":
+        zones = np.array(fl.occupancy.dwell_zones(), dtype=float)                    # (Z, 2) [Hz]
+        v_z = v[:, :, 0, 0][:, :, None]
+        d_x = {k: (np.asarray(x)[:, 0, 0, 0][:, None, None] if np.ndim(x) else x) for k, x in drive.items()}
+        with np.errstate(invalid="ignore"):
+            lo_d = throttle_at_rad_s(zones[:, 0] * TWO_PI, v_z, **d_x)
+            hi_d = throttle_at_rad_s(zones[:, 1] * TWO_PI, v_z, **d_x)
+        zone_lo = np.maximum(fl.idle, np.minimum(lo_d, fl.max))
+        zone_hi = np.minimum(fl.max, hi_d)
+    elif fl.occupancy is not None:
         zones = fl.occupancy.dwell_zones()
         lo = np.array([max(fl.idle, a) for a, _b in zones])
         hi = np.array([min(fl.max, b) for _a, b in zones])
@@ -787,7 +815,6 @@ def _aliased(sensor, floor, order, weight, present, top_rotor, x_lo, x_hi, band_
     dw_hi = np.where(any_zone[:, :, None], order[:, None, :] * r_b[:, :, 0, :], -np.inf)
     x_lo_r = np.fmin(np.where(np.isfinite(x_lo), x_lo, np.inf), dw_lo)
     x_hi_r = np.fmax(np.where(np.isfinite(x_hi), x_hi, -np.inf), dw_hi)
-    n_modes = f_lo.shape[1]
     touch_count = np.zeros(c, dtype=np.int64)
     response = np.full(c, -np.inf)
     response_at = np.zeros((c, 4), dtype=np.int64)

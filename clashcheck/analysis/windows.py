@@ -195,7 +195,7 @@ def windows_from_roots(up_a, up_b, down_a, down_b, idle, throttle_max):
             np.maximum(fall_lo, idle), np.minimum(fall_hi, throttle_max))
 
 
-def rotor_peak(v_oc, drive):
+def rotor_peak(v_oc, drive, throttle_max: float | None = None):
     """Peak rotor rate [Hz] and the throttle where it sits (``inf`` without one).
 
     Parameters
@@ -204,13 +204,35 @@ def rotor_peak(v_oc, drive):
         Open-circuit pack voltage [V].
     drive : mapping
         The other drive parameters of :func:`~clashcheck.model.drive.rotor_rad_s`.
+    throttle_max : float, optional
+        When given, a peak at or above this throttle is reported as none
+        (``inf``), and it is computed only where it lies below: the rate at
+        ``throttle_max`` is on the falling side exactly when ``throttle_max``
+        lies beyond the vertex V/(2·N·R_pack·I) of the steady-state parabola
+        there (derived).
 
     Returns
     -------
     (peak_rotor_hz, peak_throttle)
     """
-    with np.errstate(over="ignore", invalid="ignore"):  # a vanishing pack resistance puts the peak near inf
-        omega, d = peak_rotor_rad_s(v_oc, **drive)
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):  # vanishing R_pack: peak near inf
+        if throttle_max is None:
+            omega, d = peak_rotor_rad_s(v_oc, **drive)
+            return omega / TWO_PI, d
+        w_max = rotor_rad_s(throttle_max, v_oc, **drive)
+        current = drive.get("i0", 0.0) + drive.get("kq", 0.0) * w_max**2 / drive["ke"]
+        vertex = v_oc / (2.0 * drive.get("n_motors", 1) * drive.get("r_pack", 0.0) * current)
+        falling = np.asarray(throttle_max > vertex)
+        shape = np.broadcast(w_max, vertex).shape
+        omega = np.full(shape, np.inf)
+        d = np.full(shape, np.inf)
+        if np.any(falling):
+            where = np.broadcast_to(falling, shape)
+            sub = {k: np.broadcast_to(np.asarray(x, dtype=float), shape)[where] for k, x in drive.items()}
+            w_sub, d_sub = peak_rotor_rad_s(np.broadcast_to(np.asarray(v_oc, dtype=float), shape)[where], **sub)
+            omega[where], d[where] = w_sub, d_sub
+        d = np.where(d < throttle_max, d, np.inf)
+        omega = np.where(np.isfinite(d), omega, np.inf)
         return omega / TWO_PI, d
 
 

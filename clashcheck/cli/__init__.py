@@ -182,10 +182,18 @@ def main(ctx: click.Context, debug: bool) -> None:
 
 
 def _register() -> None:
-    """Add each command module's commands and flag names to the group (one line per module)."""
-    from . import arm, check, decide, modes, retest
+    """Add every command module's ``COMMANDS`` and ``FIELD_FLAGS`` to the group.
 
-    for module in (check, arm, decide, modes, retest):
+    Each module of this package whose name does not start with ``_`` is a
+    command module; a new command needs no edit here.
+    """
+    from importlib import import_module
+    from pkgutil import iter_modules
+
+    for info in iter_modules(__path__):
+        if info.name.startswith("_"):
+            continue
+        module = import_module(f"{__name__}.{info.name}")
         for command in module.COMMANDS:
             main.add_command(command)
         FIELD_FLAGS.update(getattr(module, "FIELD_FLAGS", {}))

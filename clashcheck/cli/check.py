@@ -42,10 +42,15 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
           plot_file: Path | None = None) -> None:
     """Find the throttle ranges where excitation meets a frame mode.
 
+    A significant order within its margin where the craft dwells (hover, and
+    cruise for a cruiser) is a clash; windows crossed only in passage, or
+    from weak orders, are a watch.
+
     Exit codes: 0 nothing reaches the --fail-on level, 1 something does,
-    2 bad input.
+    2 bad input, 3 an internal error (a bug).
     """
     from ..analysis.clash import check_build
+    from ..analysis.levels import reaches
     from ..inputs.buildfile import load_build, load_modes_file
     from ..report.check import render
 
@@ -61,7 +66,7 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
 
         text = report_with_diagram(build, result, fmt, plot_file, output, inputs=inputs, provenance=prov)
     emit(text, output, inputs, fmt, prov)
-    sys.exit(EXIT_FAIL if result.verdict in FAIL_LEVELS[fail_on] else EXIT_OK)
+    sys.exit(EXIT_FAIL if reaches(result.verdict, fail_on) else EXIT_OK)
 
 
 @click.command()

@@ -19,7 +19,8 @@ __all__ = ["materials", "material", "parse_arm_table"]
 
 
 _MATERIAL_KEYS = ("description", "modulus_low", "modulus", "modulus_high",
-                  "density_low", "density", "density_high", "source")
+                  "density_low", "density", "density_high", "source",
+                  "shear_modulus", "shear_source")
 
 
 @cache
@@ -47,6 +48,8 @@ def _material_catalog() -> dict[str, Material]:
             density_low_kg_m3=value("density_low", "g/cm^3"),
             density_high_kg_m3=value("density_high", "g/cm^3"),
             source=str(entry.get("source", "")),
+            shear_modulus_pa=units.parse_optional(entry.get("shear_modulus"), "GPa",
+                                                  f"{where}.shear_modulus"),
         )
     return out
 
@@ -115,6 +118,8 @@ def parse_arm_table(
           or ``outer_diameter`` and ``wall`` (round tube);
         - ``material``: a catalog id; ``modulus`` and/or ``density`` override
           it (and are then exact), or replace it when both are given;
+          ``shear_modulus`` (optional) overrides the catalog's shear modulus,
+          used for the arms' torsion by the frame model;
         - ``tip_mass``: motor + propeller + hardware; defaults to
           ``motor_mass_kg + prop_mass_kg`` when both are known;
         - ``tip_inertia`` (optional): rotary inertia of the tip body, e.g.
@@ -206,6 +211,18 @@ def _tip_mass(
 
 
 def _resolve_material(table: dict, field: str) -> Material:
+    base_material = _resolve_material_moduli(table, field)
+    shear = units.parse_optional(table.get("shear_modulus"), "GPa", f"{field}.shear_modulus",
+                                 example="19 GPa")
+    if shear is None:
+        return base_material
+    from dataclasses import replace
+
+    return replace(base_material, shear_modulus_pa=shear,
+                   source=f"{base_material.source}; shear modulus given explicitly")
+
+
+def _resolve_material_moduli(table: dict, field: str) -> Material:
     modulus = units.parse_optional(table.get("modulus"), "GPa", f"{field}.modulus",
                                    example="50 GPa")
     density = units.parse_optional(table.get("density"), "g/cm^3", f"{field}.density",
@@ -221,7 +238,7 @@ def _resolve_material(table: dict, field: str) -> Material:
                 )
         assert modulus is not None and density is not None
         return Material("custom", "explicit modulus and density", modulus, modulus, modulus,
-                        density, density, density, "given")
+                        density, density, density, "given", None)
     base = material(name, f"{field}.material")
     e = (base.modulus_low_pa, base.modulus_pa, base.modulus_high_pa)
     r = (base.density_low_kg_m3, base.density_kg_m3, base.density_high_kg_m3)
@@ -234,5 +251,8 @@ def _resolve_material(table: dict, field: str) -> Material:
     given = " and ".join(
         k for k, v in (("modulus", modulus), ("density", density)) if v is not None
     )
+    # an explicit modulus scales the catalog's shear modulus in proportion (same Poisson ratio)
+    shear = base.shear_modulus_pa if modulus is None else (
+        None if base.shear_modulus_pa is None else base.shear_modulus_pa * modulus / base.modulus_pa)
     return Material(base.id, base.description, e[1], e[0], e[2], r[1], r[0], r[2],
-                    f"{base.source}; {given} given explicitly")
+                    f"{base.source}; {given} given explicitly", shear)

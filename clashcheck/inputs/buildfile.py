@@ -44,7 +44,7 @@ __all__ = [
 MAX_FILE_BYTES = 1_000_000
 
 _TOP_KEYS = ("name", "description", "frame", "motor", "prop", "battery", "sensor", "flight", "check")
-_FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description")
+_FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description", "body", "layout")
 _MODE_KEYS = (
     "name", "frequency", "damping", "axis", "kind", "source",
     "damping_low", "damping_high", "confidence", "method",
@@ -488,10 +488,22 @@ def parse_build(data: dict[str, Any], *, path: str | None = None) -> Build:
             arm_raw, field="frame.arm", motor_mass_kg=motor.mass_kg, prop_mass_kg=prop.mass_kg
         )
         measured_names = {m.name for m in modes}
-        estimate = arm_module.estimate_arm(arm)
-        estimated = arm_module.estimated_modes(estimate)
+        # --- frame model (issue 15): [frame.body] replaces the single-arm estimate
+        from .framefile import frame_estimate_for_build
+
+        frame_found = frame_estimate_for_build(frame, arm, motors)  # type: ignore[arg-type]
+        if frame_found is not None:
+            estimated, estimate_notes = frame_found
+            notes += [f"frame model: {n}" for n in estimate_notes]
+        else:
+            estimate = arm_module.estimate_arm(arm)
+            estimated = arm_module.estimated_modes(estimate)
+            notes += [f"arm estimate: {n}" for n in estimate.notes]
+        # --- end frame model
         modes = modes + [m for m in estimated if m.name not in measured_names]
-        notes += [f"arm estimate: {n}" for n in estimate.notes]
+    elif "body" in frame or "layout" in frame:  # type: ignore[operator]
+        raise InputError("frame.arm", "an [frame.arm] table with [frame.body] and [frame.layout]",
+                         "nothing", "the frame model needs the arms' section and material")
     if not modes:
         raise InputError("frame.modes", "at least one [[frame.modes]] entry, a frame catalog or [frame.arm]", [])
     return Build(
@@ -547,7 +559,8 @@ def load_modes_file(path: str | Path) -> MeasuredModes:
     """Read a modes file: ``[[frame.modes]]``, optional ``[[order_strengths]]`` and ``[dwell]``.
 
     Modes from such a file are marked ``measured``.  ``[dwell]`` holds a
-    flight's throttle occupancy: ``throttle = [band edges as fractions]`` and
+    flight's throttle occupancy: ``throttle = [band edges as fractions]`` (or
+    ``rotor_hz = [band edges in Hz]`` when the log had no throttle) and
     ``share = [time fraction per band]`` (summing to 1); ``check`` then takes
     its dwell zones from it.
 
@@ -576,11 +589,12 @@ def load_modes_file(path: str | Path) -> MeasuredModes:
         if dwell is not None:
             f.check_keys(dwell, ("throttle", "rotor_hz", "share", "source"), "dwell")
             f.text(dwell, "source", "dwell")
-            # a flight binned by rotor rate writes rotor_hz edges; only a throttle occupancy
-            # becomes dwell zones (where the flight and verdict work meet: accepted, not used)
-            if "throttle" in dwell or "rotor_hz" not in dwell:
-                occupancy = ThrottleOccupancy(_numbers(dwell, "throttle", "dwell"),
-                                              _numbers(dwell, "share", "dwell"), str(path))
+            if ("throttle" in dwell) == ("rotor_hz" in dwell):
+                raise InputError("dwell", "band edges as either throttle = [...] or rotor_hz = [...]",
+                                 "both" if "throttle" in dwell else "neither")
+            quantity = "throttle" if "throttle" in dwell else "rotor_hz"
+            occupancy = ThrottleOccupancy(_numbers(dwell, quantity, "dwell"), _numbers(dwell, "share", "dwell"),
+                                          str(path), quantity)
     except InputError as exc:  # name the modes file, not only the field
         raise InputError(f"{path}: {exc.field}", exc.expected, exc.got, exc.hint) from None
     return MeasuredModes(tuple(modes), strengths, str(path), occupancy)

@@ -122,6 +122,7 @@ ARM_KEYS = (
     "material",
     "modulus",
     "density",
+    "shear_modulus",
     "tip_mass",
     "tip_inertia",
     "clamp_stiffness",
@@ -188,9 +189,15 @@ class Material:
     density_high_kg_m3: float
     #: Where the figures came from (citation, or "typical ...").
     source: str = ""
+    #: Nominal shear modulus for torsion of the arm [Pa]; ``None`` when not
+    #: known (only the frame model, :mod:`clashcheck.model.frame`, needs it).
+    shear_modulus_pa: float | None = None
 
     def __post_init__(self) -> None:
         where = f"material {self.id!r}"
+        if self.shear_modulus_pa is not None:
+            _check_positive(self.shear_modulus_pa, f"{where}.shear_modulus",
+                            "a shear modulus above 0 Pa")
         for name, low, mid, high, unit in (
             ("modulus", self.modulus_low_pa, self.modulus_pa, self.modulus_high_pa, "Pa"),
             ("density", self.density_low_kg_m3, self.density_kg_m3, self.density_high_kg_m3,

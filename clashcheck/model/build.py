@@ -48,27 +48,34 @@ MEASURED_DWELL_COVERAGE = 0.8
 
 @dataclass(frozen=True)
 class ThrottleOccupancy:
-    """Where a recorded flight spent its time: the share of time per throttle band.
+    """Where a recorded flight spent its time: the share of time per throttle (or rotor-rate) band.
 
     Written by ``clashcheck modes --kind flight`` to a modes file as
-    ``[dwell]`` with ``throttle = [edges...]`` and ``share = [fractions...]``.
+    ``[dwell]`` with ``throttle = [edges...]`` (fractions 0–1) or, when the log
+    has no throttle, ``rotor_hz = [edges...]`` (Hz), and ``share = [fractions...]``.
     """
 
-    #: Band edges [throttle fraction], increasing, within [0, 1]; one more than shares.
+    #: Band edges, increasing, one more than shares: throttle fractions in [0, 1], or rotor rates [Hz].
     throttle: tuple[float, ...]
     #: Share of flight time in each band [fraction]; they sum to 1.
     share: tuple[float, ...]
     #: Where it came from (a file), for the report.
     source: str = ""
+    #: What the edges count: ``"throttle"`` (fractions) or ``"rotor_hz"`` (rotor rate, Hz).
+    quantity: str = "throttle"
 
     def __post_init__(self) -> None:
         edges, shares = self.throttle, self.share
+        key = f"dwell.{self.quantity}"
+        if self.quantity not in ("throttle", "rotor_hz"):
+            raise InputError("dwell", "band edges as throttle or rotor_hz", self.quantity)
         if len(edges) < 2 or len(shares) != len(edges) - 1:
-            raise InputError("dwell.share", f"one share per throttle band ({max(len(edges) - 1, 1)})", len(shares))
-        if any(not (math.isfinite(e) and 0.0 <= e <= 1.0) for e in edges) or any(
+            raise InputError("dwell.share", f"one share per band ({max(len(edges) - 1, 1)})", len(shares))
+        top = 1.0 if self.quantity == "throttle" else 1e5
+        if any(not (math.isfinite(e) and 0.0 <= e <= top) for e in edges) or any(
             b <= a for a, b in zip(edges[:-1], edges[1:])
         ):
-            raise InputError("dwell.throttle", "increasing band edges from 0 to 1", list(edges))
+            raise InputError(key, f"increasing band edges from 0 to {top:g}", list(edges))
         if any(not (math.isfinite(x) and x >= 0) for x in shares) or not math.isclose(sum(shares), 1.0,
                                                                                            abs_tol=1e-3):
             raise InputError("dwell.share", "time fractions of 0 or more that sum to 1", list(shares))
@@ -87,7 +94,7 @@ class ThrottleOccupancy:
         Returns
         -------
         tuple of (low, high)
-            Throttle intervals [fraction], in increasing order.
+            Intervals in the unit of the edges (throttle fraction, or rotor rate [Hz]), increasing.
 
         Examples
         --------
@@ -269,10 +276,12 @@ class Build:
         flight = self.flight
         if measured.occupancy is not None:
             flight = replace(flight, occupancy=measured.occupancy)
-            zones = ", ".join(f"{100 * a:.0f}–{100 * b:.0f} %" for a, b in measured.occupancy.dwell_zones())
+            hz = measured.occupancy.quantity == "rotor_hz"
+            zones = ", ".join((f"{a:.0f}–{b:.0f} Hz of rotor rate" if hz else f"{100 * a:.0f}–{100 * b:.0f} %")
+                              for a, b in measured.occupancy.dwell_zones())
             notes.append(f"dwell zones measured from the flight's throttle occupancy in {measured.path}: {zones} "
-                         f"(the bands holding {100 * MEASURED_DWELL_COVERAGE:.0f} % of the time), in place of hover "
-                         "± spread")
+                         f"(the bands holding {100 * MEASURED_DWELL_COVERAGE:.0f} % of the time), in place of "
+                         "hover ± spread")
         return replace(
             self,
             modes=rec.modes,

@@ -284,7 +284,7 @@ def zone_image(low_hz, high_hz, zone: int, sample_rate_hz: float):
     return m * sample_rate_hz + low_hz, m * sample_rate_hz + high_hz
 
 
-def fold_in_zone(freq_hz, zone: int, sample_rate_hz: float):
+def fold_in_zone(freq_hz, zone, sample_rate_hz: float):
     """Apparent frequency [Hz] of ``freq_hz`` known to lie in Nyquist zone ``zone``.
 
     The same fold as :func:`fold`, linear inside the zone (no rounding at its

@@ -362,8 +362,10 @@ def _dwell_text(result: ClashResult) -> str:
     if not flying:
         return "none (the craft flies at no pack state checked)"
     if result.dwell_source == "measured":
-        spans = ", ".join(_span(lo, hi) for _w, lo, hi in flying[0].dwell)
-        return f"measured throttle occupancy: {spans}"
+        per_state = [(b.pack_state, ", ".join(_span(lo, hi) for _w, lo, hi in b.dwell)) for b in flying]
+        if len({text for _s, text in per_state}) == 1:
+            return f"measured throttle occupancy: {per_state[0][1]}"
+        return "measured occupancy: " + " · ".join(f"{st} {text}" for st, text in per_state)
     parts = []
     for what in ("hover", "cruise", "operating band"):
         spans = [(st, lo, hi) for st, zs in zones.items() for w, lo, hi in zs if w == what]
