@@ -48,6 +48,9 @@ class Flight:
     #: RMS of each mode's response (before participation).
     mode_rms: float = 1.0
     noise_rms: float = 0.02
+    #: Add the sensor noise after the onboard filter (logging and quantisation
+    #: noise) instead of before it.
+    noise_after_filter: bool = False
     #: Order-line amplitudes grow as (rotor rate / rate at half throttle)^growth
     #: (2 for a force ∝ ω²); the ratio between orders stays the same at every moment.
     growth: float = 0.0
@@ -102,10 +105,14 @@ def generate(spec: Flight) -> dict[str, np.ndarray]:
         sig += x[:, None] * np.asarray(part)[None, :]
     for f, amp in spec.tones:
         sig += np.sin(2 * np.pi * f * t + rng.uniform(0, 2 * np.pi))[:, None] * np.asarray(amp)[None, :]
-    sig += spec.noise_rms * rng.standard_normal(sig.shape)
+    noise = spec.noise_rms * rng.standard_normal(sig.shape)
+    if not spec.noise_after_filter:
+        sig += noise
     if spec.lowpass_hz is not None:
         b, a = signal.butter(2, spec.lowpass_hz, fs=spec.fs)
         sig = signal.lfilter(b, a, sig, axis=0)
+    if spec.noise_after_filter:
+        sig += noise
     out = {"t": t, "gx": sig[:, 0], "gy": sig[:, 1], "gz": sig[:, 2], "throttle": thr}
     for m, f_m in enumerate(rates):
         out[f"rpm{m + 1}"] = 60.0 * f_m
