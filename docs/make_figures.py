@@ -40,7 +40,7 @@ def _shrink(png: Path) -> None:
     from PIL import Image
 
     with Image.open(png) as im:
-        small = im.convert("RGB").quantize(colors=256, method=Image.Quantize.MEDIANCUT, dither=Image.Dither.NONE)
+        small = im.convert("RGB").quantize(colors=256, method=Image.Quantize.FASTOCTREE, dither=Image.Dither.NONE)
     small.save(png, optimize=True)
 
 
