@@ -64,7 +64,10 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
     if plot_file is not None:  # matplotlib and scipy are imported only on this path
         from ..report.decide import report_with_diagram
 
-        text = report_with_diagram(build, result, fmt, plot_file, output, inputs=inputs, provenance=prov)
+        from ..analysis.diagram import diagram_curves
+
+        text = report_with_diagram(build, result, fmt, plot_file, output, inputs=inputs, provenance=prov,
+                                   curves=diagram_curves(build, result))
     emit(text, output, inputs, fmt, prov)
     sys.exit(EXIT_FAIL if reaches(result.verdict, fail_on) else EXIT_OK)
 

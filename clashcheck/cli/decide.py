@@ -46,7 +46,10 @@ def compare(build_a: Path, build_b: Path, fmt: str, fail_on: str, no_shift: bool
     if plot_file is not None:
         from ..report.campbell import campbell_data, save_campbell
 
-        save_campbell(plot_file, [campbell_data(result.build_a, result.a), campbell_data(result.build_b, result.b)],
+        from ..analysis.diagram import diagram_curves
+
+        save_campbell(plot_file, [campbell_data(result.build_a, result.a, diagram_curves(result.build_a, result.a)),
+                                  campbell_data(result.build_b, result.b, diagram_curves(result.build_b, result.b))],
                       inputs=[build_a, build_b], provenance=prov)
     emit(render_compare(result, fmt, fail_on), output, [build_a, build_b], fmt, prov)
     sys.exit(EXIT_FAIL if result.worse_at(fail_on) else EXIT_OK)
