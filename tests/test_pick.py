@@ -16,6 +16,7 @@ import sys
 import tomllib
 from pathlib import Path
 from dataclasses import replace
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -23,6 +24,7 @@ from click.testing import CliRunner
 
 from clashcheck.analysis.clash import check_build
 from clashcheck.analysis.pick import (
+    MotorOption,
     PropOption,
     SearchSpace,
     candidate_build,
@@ -242,7 +244,7 @@ def test_pick_top_is_fully_checked():
     assert [p.rank for p in result.top] == [1, 2, 3]
     for p in result.top:
         assert (p.result.verdict != "clash") == p.band_clear
-    assert not any("disagrees" in n for n in result.notes)
+    assert result.disagreements == ()
 
 
 def test_kv_variant_scales_resistance():
@@ -305,3 +307,60 @@ def test_cli_pick_json_and_errors(tmp_path):
         res = runner.invoke(main, ["pick", str(path), *args])
         assert res.exit_code == 2, (args, res.output)
         assert needle in res.stderr and "Traceback" not in res.output
+
+
+# --- the top candidate written out as a build ------------------------------------------
+
+
+@pytest.mark.parametrize("example", ["freestyle-5in", "ducted-3in"])
+def test_write_build_gives_the_verdict_pick_scored(tmp_path, example):
+    import json
+
+    from clashcheck.inputs.buildfile import load_build
+
+    demo = Path(__file__).resolve().parent.parent / "examples" / f"{example}.toml"
+    out = tmp_path / "best.toml"
+    runner = CliRunner()
+    picked = runner.invoke(main, ["pick", str(demo), "--top", "3", "--format", "json", "--write-build", str(out)])
+    assert picked.exit_code in (0, 1), picked.output
+    data = json.loads(picked.stdout)
+    top = data["top"][0]
+    written = load_build(out)
+    check = check_build(written)
+    assert check.verdict == top["verdict"]
+    assert {mr.mode.name: mr.verdict for mr in check.modes} == {m["name"]: m["verdict"] for m in top["modes"]}
+    assert written.mass_kg == pytest.approx(top["mass_kg"], rel=1e-12)
+    assert written.pack.cells == top["cells"]
+    # pick's "no clash" flag is check's verdict, and pick exits 0 exactly when its top has no clash
+    assert top["band_clear"] is (check.verdict != "clash")
+    assert (data["clear_count"] > 0) is top["band_clear"]
+    assert picked.exit_code == (0 if top["band_clear"] else 1)
+    # the check command on the written file exits as its verdict says
+    res = runner.invoke(main, ["check", str(out)])
+    assert res.exit_code == (1 if check.verdict == "clash" else 0)
+
+
+def test_write_build_never_over_an_input_or_the_report(tmp_path):
+    path = _write(tmp_path, FRAME)
+    before = path.read_bytes()
+    runner = CliRunner()
+    res = runner.invoke(main, ["pick", str(path), "--cells", "4,6", "--write-build", str(path)])
+    assert res.exit_code == 2 and "input" in res.stderr and path.read_bytes() == before
+    same = tmp_path / "same.txt"
+    res = runner.invoke(main, ["pick", str(path), "--cells", "4,6", "--write-build", str(same), "-o", str(same)])
+    assert res.exit_code == 2 and "different files" in res.stderr and not same.exists()
+
+
+def test_library_errors_name_fields_and_the_cli_names_flags(tmp_path):
+    base = _build(FRAME)
+    with pytest.raises(InputError, match=r"^cells: "):
+        SearchSpace((MotorOption("m", base.motor, "build"),), (PropOption("p", base.prop, "build"),), (0,))
+    with pytest.raises(InputError, match=r"^kv_range: "):
+        search_space(base, kv_range=(30.0, 25.0, 1.0))
+    path = _write(tmp_path, FRAME)
+    runner = CliRunner()
+    for args, flag in ((["--cells", "0"], "--cells"), (["--kv-from", "2000 rpm/V", "--kv-to", "1500 rpm/V"],
+                                                       "--kv-from/--kv-to/--kv-step"),
+                       (["--hover-low", "60 %"], "--hover-low/--hover-high")):
+        res = runner.invoke(main, ["pick", str(path), *args])
+        assert res.exit_code == 2 and f"error: {flag}: " in res.stderr, res.stderr

@@ -292,9 +292,10 @@ def test_check_markdown_report_with_diagram(tmp_path):
                                "--plot", str(diagram), "-o", str(report)])
     assert res.exit_code == 1, res.output          # the example clashes
     text = report.read_text(encoding="utf-8")
-    for needle in ("## Build summary", "## Assumptions", "## Danger ranges", "verdict: CLASH",
+    for needle in ("## Build and assumptions", "## Parts", "## Danger ranges", "verdict: CLASH",
                    "![Campbell diagram", "(img/diagram.png)", "## Suggestions", "propellers removed",
-                   "drive model: loaded model", "<sub>clashcheck ", "inputs sha256:"):
+                   "loaded model", "hover: computed from C_T",
+                   "<sub>clashcheck ", "inputs sha256:"):
         assert needle in text, needle
     assert diagram.read_bytes()[:4] == b"\x89PNG"
     # same file for the report and the diagram, and an unwritable diagram path: exit 2

@@ -49,6 +49,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from ..errors import InputError
+from ..model.build import Build
 from ..model.drive import hover_rotor_hz, rotor_rad_s, throttle_at_rad_s
 from ..model.excitation import build_orders, fold_in_zone, orders_for, zone_image
 from ..model.motor import Motor
@@ -72,6 +73,8 @@ from .windows import (
 __all__ = [
     "PIN_NAMES",
     "DEFAULT_HOVER_RANGE",
+    "NOTE_KINDS",
+    "SearchNote",
     "MotorOption",
     "PropOption",
     "SearchSpace",
@@ -100,6 +103,23 @@ _PROP_DIAMETER_SHARE = 0.8
 _MOTOR_MASS_WINDOW = (0.5, 2.0)
 #: Kv of catalog motors matching a pinned Kv, relative [fraction].
 _KV_PIN_TOLERANCE = 0.02
+
+
+#: Kinds of :class:`SearchNote`.
+NOTE_KINDS = ("default-search", "motor-mass-window", "catalog-motors", "kv-sweep", "prop-diameters", "pinned",
+              "mass-held-with-cells", "arm-shift", "arm-not-shifted", "stated-hover-dropped")
+
+
+@dataclass(frozen=True)
+class SearchNote:
+    """One fact about what was searched or assumed (worded by :mod:`clashcheck.report.decide`)."""
+
+    #: One of :data:`NOTE_KINDS`.
+    kind: str
+    #: Figures, SI, keys with unit suffixes (``min_kg``, ``low_hz_per_v``, ``hover`` as a fraction...).
+    figures: dict[str, float] = field(default_factory=dict)
+    #: Names it concerns (pins; ``frame.arm`` when the arm mass comes from there).
+    names: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -142,25 +162,25 @@ class SearchSpace:
     hover_range: tuple[float, float] = DEFAULT_HOVER_RANGE
     #: Mass of one cell [kg], to adjust the all-up mass with the cell count; ``None`` holds it.
     cell_mass_kg: float | None = None
-    #: What was searched and assumed, one sentence each.
-    notes: tuple[str, ...] = ()
+    #: What was searched and assumed.
+    notes: tuple[SearchNote, ...] = ()
 
     def __post_init__(self) -> None:
         for name, axis in (("motors", self.motors), ("props", self.props), ("cells", self.cells)):
             if not axis:
-                raise InputError(f"pick {name}", "at least one candidate (an empty candidate set)", [])
+                raise InputError(name, "at least one candidate (an empty candidate set)", [])
         for n in self.cells:
             if isinstance(n, bool) or not isinstance(n, int) or not 1 <= n <= 24:
-                raise InputError("pick --cells", "cell counts from 1 to 24", n)
+                raise InputError("cells", "cell counts from 1 to 24", n)
         for p in self.poles:
             if isinstance(p, bool) or not isinstance(p, int) or p < 2 or p % 2:
-                raise InputError("pick --poles", "even pole counts of 2 or more", p)
+                raise InputError("poles", "even pole counts of 2 or more", p)
         low, high = self.hover_range
         if not (0.0 <= low < high <= 1.0):
-            raise InputError("pick --hover-range", "a low hover throttle below the high one, within 0 %–100 %",
+            raise InputError("hover_range", "a low hover throttle below the high one, within 0 %–100 %",
                              f"{100 * low:g} %–{100 * high:g} %")
         if self.cell_mass_kg is not None and not (math.isfinite(self.cell_mass_kg) and self.cell_mass_kg > 0):
-            raise InputError("pick --cell-mass", "a cell mass above 0 g", self.cell_mass_kg)
+            raise InputError("cell_mass_kg", "a cell mass above 0 g", self.cell_mass_kg)
 
     @property
     def shape(self) -> tuple[int, int, int, int]:
@@ -198,7 +218,7 @@ def kv_variant(motor: Motor, kv_hz_per_v: float) -> Motor:
     0.075111
     """
     if not (math.isfinite(kv_hz_per_v) and kv_hz_per_v > 0):
-        raise InputError("pick --kv", "a Kv above 0 rpm/V", kv_hz_per_v)
+        raise InputError("kv_hz_per_v", "a Kv above 0 rpm/V", kv_hz_per_v)
     scale = (motor.kv_hz_per_v / kv_hz_per_v) ** 2
     return replace(motor, kv_hz_per_v=kv_hz_per_v, resistance_ohm=motor.resistance_ohm * scale)
 
@@ -257,7 +277,7 @@ def catalog_props(
 
     if ids:
         for ident in ids:
-            entry("props", ident, "pick --props")  # a clear error with a "did you mean" hint
+            entry("props", ident, "props")  # a clear error with a "did you mean" hint
         chosen = list(dict.fromkeys(ids))
     else:
         chosen = list(load_catalog("props"))
@@ -332,12 +352,12 @@ def search_space(
     pins = tuple(dict.fromkeys(pins))
     for p in pins:
         if p not in PIN_NAMES:
-            raise InputError("pick --pin", "one of " + ", ".join(PIN_NAMES), p)
+            raise InputError("pins", "one of " + ", ".join(PIN_NAMES), p)
     catalog_wanted = motors == "catalog" or bool(stators) or max_motor_mass_kg is not None
     if props is None and max_prop_diameter_m is not None:
         props = "catalog"
     if motors not in (None, "catalog"):
-        raise InputError("pick --motors", "'catalog'", motors)
+        raise InputError("motors", "'catalog'", motors)
     searched = {
         "motor": catalog_wanted or kv_range is not None or bool(poles),
         "kv": catalog_wanted or kv_range is not None,
@@ -347,15 +367,15 @@ def search_space(
     }
     for p in pins:
         if searched[p]:
-            what = {"motor": "motor options (--motors, --stator, --max-motor-mass, --kv-*, --poles)",
-                    "kv": "a Kv search (--motors, --stator, --max-motor-mass, --kv-*)",
-                    "poles": "--poles", "prop": "--props or --max-prop-diameter", "cells": "--cells"}[p]
-            raise InputError("pick --pin", f"a pin on a part that is not also searched ({what})", p,
+            what = {"motor": "motors, stators, max_motor_mass_kg, kv_range or poles",
+                    "kv": "motors, stators, max_motor_mass_kg or kv_range",
+                    "poles": "poles", "prop": "props or max_prop_diameter_m", "cells": "cells"}[p]
+            raise InputError("pins", f"a pin on a part that is not also searched ({what})", p,
                              "contradictory pins: drop the pin or the search option")
     if catalog_wanted and kv_range is not None:
-        raise InputError("pick --kv-from", "either catalog motors or a Kv sweep, not both", "both",
+        raise InputError("kv_range", "either catalog motors or a Kv sweep, not both", "both",
                          "contradictory options")
-    notes: list[str] = []
+    notes: list[SearchNote] = []
     any_search = any(searched.values())
     if not any_search:
         # the default search: catalog motors and fitting catalog props, minus pins
@@ -364,9 +384,9 @@ def search_space(
         if "prop" not in pins:
             props = "catalog"
         if not catalog_wanted and props is None:
-            raise InputError("pick", "something left to search", "every part pinned",
-                             "give --motors, --kv-from/--kv-to, --poles, --props or --cells")
-        notes.append("no search option given: catalog motors and catalog propellers that fit are searched")
+            raise InputError("pins", "something left to search", "every part pinned",
+                             "search motors, a Kv range, poles, props or cells")
+        notes.append(SearchNote("default-search"))
 
     base = MotorOption("build motor", build.motor, "build")
     motor_axis: tuple[MotorOption, ...] = (base,)
@@ -374,10 +394,7 @@ def search_space(
         min_mass = None
         if not stators and max_motor_mass_kg is None and build.motor.mass_kg is not None:
             min_mass, max_motor_mass_kg = (k * build.motor.mass_kg for k in _MOTOR_MASS_WINDOW)
-            notes.append(
-                f"catalog motors from {1e3 * min_mass:.1f} g to {1e3 * max_motor_mass_kg:.1f} g "
-                "(half to twice the build motor's mass; --stator or --max-motor-mass to change)"
-            )
+            notes.append(SearchNote("motor-mass-window", {"min_kg": min_mass, "max_kg": max_motor_mass_kg}))
         motor_axis = catalog_motors(
             stators, max_motor_mass_kg,
             kv_near_hz_per_v=build.motor.kv_hz_per_v if "kv" in pins else None,
@@ -385,48 +402,44 @@ def search_space(
             min_mass_kg=min_mass,
         )
         if not motor_axis:
-            raise InputError("pick motors", "at least one catalog motor after the filters (an empty candidate set)",
-                             "none", "loosen --stator, --max-motor-mass or the pins")
-        notes.append(f"{len(motor_axis)} catalog motor(s)")
+            raise InputError("motors", "at least one catalog motor after the filters (an empty candidate set)",
+                             "none", "loosen the stator, motor-mass or pin filters")
+        notes.append(SearchNote("catalog-motors", {"count": float(len(motor_axis))}))
     elif kv_range is not None:
         low, high, step = kv_range
         if not (math.isfinite(low) and math.isfinite(high) and math.isfinite(step)) or step <= 0 or low <= 0:
-            raise InputError("pick --kv-step", "a Kv range above 0 rpm/V with a step above 0", kv_range)
+            raise InputError("kv_range", "a Kv range above 0 rpm/V with a step above 0", kv_range)
         if high < low:
-            raise InputError("pick --kv-to", "a Kv at or above --kv-from (an empty candidate set)",
+            raise InputError("kv_range", "a high Kv at or above the low one (an empty candidate set)",
                              f"{60 * high:g} rpm/V < {60 * low:g} rpm/V")
         count = int(math.floor((high - low) / step * (1 + 1e-12))) + 1
         if count > 1_000_000:
-            raise InputError("pick --kv-step", "at most 1000000 Kv values", count)
+            raise InputError("kv_range", "at most 1000000 Kv values", count)
         kvs = low + step * np.arange(count)
         motor_axis = tuple(MotorOption(f"Kv {60 * kv:.0f} rpm/V", kv_variant(build.motor, float(kv)), "kv sweep")
                            for kv in kvs)
-        notes.append(
-            f"Kv swept from {60 * low:g} to {60 * kvs[-1]:g} rpm/V in steps of {60 * step:g} on the build's motor: "
-            "winding resistance scaled as (Kv₀/Kv)², no-load current and mass held"
-        )
+        notes.append(SearchNote("kv-sweep", {"low_hz_per_v": float(low), "high_hz_per_v": float(kvs[-1]),
+                                             "step_hz_per_v": float(step)}))
     prop_axis: tuple[PropOption, ...] = (PropOption("build prop", build.prop, "build"),)
     if props is not None:
         top = max_prop_diameter_m if max_prop_diameter_m is not None else build.prop.diameter_m
         if props == "catalog":
             prop_axis = catalog_props(None, _PROP_DIAMETER_SHARE * build.prop.diameter_m, top)
-            notes.append(
-                f"catalog propellers from {_PROP_DIAMETER_SHARE * build.prop.diameter_m / 0.0254:.2f} in "
-                f"to {top / 0.0254:.2f} in"
-            )
+            notes.append(SearchNote("prop-diameters", {"min_m": _PROP_DIAMETER_SHARE * build.prop.diameter_m,
+                                                       "max_m": float(top)}))
         else:
             prop_axis = catalog_props(list(props), None, max_prop_diameter_m)
         if not prop_axis:
-            raise InputError("pick props", "at least one propeller that fits (an empty candidate set)", "none",
-                             "raise --max-prop-diameter or name props with --props")
+            raise InputError("props", "at least one propeller that fits (an empty candidate set)", "none",
+                             "raise the largest diameter or name the props")
     cell_axis = tuple(int(c) for c in dict.fromkeys(cells)) if cells else (build.pack.cells,)
     pole_axis = tuple(int(p) for p in dict.fromkeys(poles))
     if pins:
-        notes.append("pinned: " + ", ".join(pins))
+        notes.append(SearchNote("pinned", names=tuple(pins)))
     if cells and cell_mass_kg is None:
-        notes.append("the all-up mass is held when the cell count changes (no --cell-mass given)")
-    low_h, high_h = hover_range
-    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, (low_h, high_h), cell_mass_kg, tuple(notes))
+        notes.append(SearchNote("mass-held-with-cells"))
+    low_high = (float(hover_range[0]), float(hover_range[1]))
+    return SearchSpace(motor_axis, prop_axis, cell_axis, pole_axis, low_high, cell_mass_kg, tuple(notes))
 
 
 # ---------------------------------------------------------------------------
@@ -914,7 +927,7 @@ class Pick:
     #: Short label of its parts.
     label: str
     #: The candidate as a build (modes shifted, mass adjusted).
-    build: object
+    build: Build
     #: The full check of that build.
     result: ClashResult
     #: Hovers at every pack state.
@@ -939,8 +952,6 @@ class Pick:
     hover: dict[str, float]
     #: Clash windows touching the band.
     clash_count: int
-    #: Reasons for the place in the ranking, one phrase each.
-    reasons: tuple[str, ...]
 
 
 @dataclass(frozen=True)
@@ -951,7 +962,7 @@ class PickResult:
     name: str
     #: Candidates scored.
     searched: int
-    #: How many keep the band clear at every pack state (and fly).
+    #: How many have no clash window at any pack state (and fly): the check's ``clash`` rule.
     clear_count: int
     #: The best candidates, best first.
     top: tuple[Pick, ...]
@@ -961,8 +972,15 @@ class PickResult:
     space: SearchSpace
     #: The scores of every candidate.
     scores: Scores = field(repr=False)
-    #: Notes, one sentence each.
-    notes: tuple[str, ...] = ()
+    #: What was searched and assumed.
+    notes: tuple[SearchNote, ...] = ()
+    #: Labels of top candidates whose full check disagrees with the vectorised "band clear" flag.
+    disagreements: tuple[str, ...] = ()
+
+    @property
+    def best(self) -> Pick | None:
+        """The top-ranked candidate, or ``None`` when nothing was returned."""
+        return self.top[0] if self.top else None
 
 
 def _describe(build, space, scores, index):
@@ -973,31 +991,6 @@ def _describe(build, space, scores, index):
     s2, m2, k2, _z2 = (int(x) for x in scores.margin_at[index])
     return label, (build.modes[m].name, orders[k].label, scores.pack_states[s], z > 0), (
         build.modes[m2].name, orders[k2].label, scores.pack_states[s2])
-
-
-def _reasons(p: dict, hover_range) -> tuple[str, ...]:
-    out = []
-    if not p["flies"]:
-        states = [s for s, h in p["hover"].items() if not (math.isfinite(h) and h <= 1.0)]
-        out.append("cannot hover at the " + ", ".join(states) + " pack")
-    elif p["band_clear"]:
-        out.append("operating band clear at every pack state")
-    else:
-        out.append(f"{p['clash_count']} clash window(s) touch the operating band")
-    known = [h for h in p["hover"].values() if math.isfinite(h)]
-    if known:
-        span = f"{100 * min(known):.0f}–{100 * max(known):.0f} %"
-        inside = "within" if p["hover_in_range"] else "outside"
-        out.append(f"hover {span}, {inside} {100 * hover_range[0]:.0f}–{100 * hover_range[1]:.0f} %")
-    else:
-        out.append("hover unknown (no C_T): band taken from idle")
-    if math.isfinite(p["response"]):
-        out.append(
-            f"peak weighted response {p['response']:.2f} ({p['response_order']}"
-            f"{' aliased' if p['response_aliased'] else ''} near {p['response_mode']}, {p['response_state']} pack)"
-        )
-        out.append(f"worst margin {100 * p['worst_margin']:.1f} % ({p['margin_order']} to {p['margin_mode']})")
-    return tuple(out)
 
 
 def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
@@ -1015,16 +1008,17 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
     Returns
     -------
     PickResult
-        The top candidates, each with a full :func:`~clashcheck.clash.check_build`
-        of it.  A note is added should the full check ever disagree with the
+        The top candidates, each with a full :func:`~clashcheck.analysis.clash.check_build`
+        of it; ``disagreements`` names any whose full check disagrees with the
         vectorised "band clear" flag.
     """
     if isinstance(top, bool) or not isinstance(top, int) or not 1 <= top <= 100:
-        raise InputError("pick --top", "a whole number from 1 to 100", top)
+        raise InputError("top", "a whole number from 1 to 100", top)
     scores = score_candidates(build, space)
     order = rank(scores)
     picks = []
-    notes = list(space.notes)
+    disagree: list[str] = []
+    notes: list[SearchNote] = list(space.notes)
     for place, index in enumerate(order[:top], start=1):
         index = int(index)
         cand = candidate_build(build, space, index)
@@ -1044,24 +1038,17 @@ def pick(build, space: SearchSpace, *, top: int = 5) -> PickResult:
             "clash_count": int(scores.clash_count[index]),
         }
         if (result.verdict == "clash") == fields["band_clear"]:
-            notes.append(f"candidate {label}: the full check ({result.verdict}) disagrees with the search")
-        picks.append(Pick(rank=place, index=index, label=label, build=cand, result=result,
-                          reasons=_reasons(fields, space.hover_range), **fields))
+            disagree.append(label)
+        picks.append(Pick(rank=place, index=index, label=label, build=cand, result=result, **fields))
     if any(m.kind == "arm" for m in build.modes):
         ratio = scores.mode_ratio
         if np.any(ratio != 1.0):
-            notes.append(
-                f"arm modes move with each candidate's tip mass (×{np.min(ratio):.3f} to ×{np.max(ratio):.3f}); "
-                + ("arm mass from [frame.arm]" if build.arm is not None else
-                   "no [frame.arm]: m_eff = tip mass (motor + propeller)")
-            )
+            notes.append(SearchNote("arm-shift", {"min_ratio": float(np.min(ratio)), "max_ratio": float(np.max(ratio))},
+                                    ("frame.arm",) if build.arm is not None else ()))
         elif build.motor.mass_kg is None or build.prop.mass_kg is None:
-            notes.append("arm modes not shifted: the build's motor or propeller mass is not known")
+            notes.append(SearchNote("arm-not-shifted"))
     if build.flight.hover is not None:
-        notes.append(
-            f"the stated hover ({100 * build.flight.hover:.0f} %) belongs to the build's own parts: candidates "
-            "whose propeller has a C_T get a computed hover instead"
-        )
+        notes.append(SearchNote("stated-hover-dropped", {"hover": build.flight.hover}))
     clear = int(np.sum(scores.band_clear & scores.flies))
     return PickResult(build.name, space.size, clear, tuple(picks), space.hover_range, space, scores,
-                      tuple(notes))
+                      tuple(notes), tuple(disagree))

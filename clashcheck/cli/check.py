@@ -38,8 +38,10 @@ from ._common import (
 @click.option("--plot", "plot_file", type=click.Path(dir_okay=False, path_type=Path),
               help="Also draw the Campbell diagram here (.png, .svg, .pdf; needs the [plot] extra). "
                    "With --format markdown the report embeds it and adds computed suggestions.")
+@click.option("--suggest", "with_suggestions", is_flag=True,
+              help="Add computed changes that would clear each clash, each confirmed by a full check.")
 def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, output: Path | None,
-          plot_file: Path | None = None) -> None:
+          plot_file: Path | None = None, with_suggestions: bool = False) -> None:
     """Find the throttle ranges where excitation meets a frame mode.
 
     A significant order within its margin where the craft dwells (hover, and
@@ -58,16 +60,33 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
     if modes_file is not None:
         build = build.with_measured(load_modes_file(modes_file))
     result = check_build(build)
-    text = render(result, fmt)
     inputs = [p for p in (build_file, modes_file) if p is not None]
     prov = provenance_of(result.name, inputs) if (fmt == "markdown" or plot_file is not None) else None
-    if plot_file is not None:  # matplotlib and scipy are imported only on this path
-        from ..report.decide import report_with_diagram
+    suggestions = None
+    if with_suggestions or (plot_file is not None and fmt == "markdown"):  # scipy only on this path
+        from ..analysis.suggest import suggest
 
+        suggestions = suggest(build, result)
+    if plot_file is not None:  # matplotlib only on this path
+        from ..errors import OutputError
+        from ..report.campbell import campbell_data, save_campbell
+
+        if output is not None and Path(output).resolve() == Path(plot_file).resolve():
+            raise OutputError(str(plot_file), "the diagram and the report need different files")
         from ..analysis.diagram import diagram_curves
 
-        text = report_with_diagram(build, result, fmt, plot_file, output, inputs=inputs, provenance=prov,
-                                   curves=diagram_curves(build, result))
+        save_campbell(plot_file, [campbell_data(build, result, diagram_curves(build, result), provenance=prov)],
+                      inputs=inputs)
+    if plot_file is not None and fmt == "markdown":
+        from ..report.decide import image_reference, render_check_report
+
+        text = render_check_report(build, result, suggestions, image_reference(plot_file, output))
+    elif suggestions is not None:
+        from ..report.decide import render_check_with_suggestions
+
+        text = render_check_with_suggestions(result, suggestions, fmt)
+    else:
+        text = render(result, fmt)
     emit(text, output, inputs, fmt, prov)
     sys.exit(EXIT_FAIL if reaches(result.verdict, fail_on) else EXIT_OK)
 

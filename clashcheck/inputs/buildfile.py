@@ -47,7 +47,7 @@ _TOP_KEYS = ("name", "description", "frame", "motor", "prop", "battery", "sensor
 _FRAME_KEYS = ("catalog", "motors", "mass", "modes", "arm", "wheelbase", "description", "body", "layout")
 _MODE_KEYS = (
     "name", "frequency", "damping", "axis", "kind", "source",
-    "damping_low", "damping_high", "confidence", "method",
+    "damping_low", "damping_high", "confidence", "method", "frequency_low", "frequency_high",
 )
 #: Damping against amplitude in a modes file (issue 14; see :func:`_amplitude_damping`).
 _AMPLITUDE_KEYS = (
@@ -123,6 +123,14 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
         maximum=1e5, range_text="above 0 Hz and up to 100 kHz",
     )
     assert freq is not None
+    spread = {}
+    for key in ("frequency_low", "frequency_high"):  # an estimate's plausible range (written by pick)
+        spread[key] = f.quantity(raw, key, where, "Hz", "200 Hz", minimum=0.0, exclusive_minimum=True,
+                                 maximum=1e5, range_text="above 0 Hz and up to 100 kHz")
+    low, high = spread["frequency_low"], spread["frequency_high"]
+    if (low is not None and low > freq) or (high is not None and high < freq):
+        raise InputError(f"{where}.frequency_low", "frequency_low ≤ frequency ≤ frequency_high",
+                         f"{low} / {freq} / {high} Hz")
     damping = f.ratio(raw, "damping", where, low=0.0, high=1.0, what="a damping ratio")
     details: dict[str, object] = {}
     for key in ("damping_low", "damping_high"):
@@ -145,6 +153,8 @@ def parse_mode(raw: dict[str, Any], where: str, origin: str) -> Mode:
         kind=f.choice(raw, "kind", where, MODE_KINDS, default="other") or "other",
         origin=origin,
         source=f.text(raw, "source", where, default="") or "",
+        frequency_low_hz=low,
+        frequency_high_hz=high,
         details=details,
     )
 
