@@ -11,6 +11,7 @@ own command line, in this process), from the invented demo builds in
 - compare-freestyle-5in.png    compare --plot (the motor swap, stacked on an A4 page)
 - flight.png, flight-time.png  modes --kind flight --plot (spectra against rotor speed, and time)
 - tap.png                      modes --kind tap --plot (bolted 7-inch frame: friction decay)
+- frame-heron-s5.png           frame --plot (mode shapes of the whole-frame model; drawn by report/frame.py)
 """
 
 from __future__ import annotations
@@ -32,6 +33,7 @@ RUNS = [
      "--resolution", "2 Hz", "--rpm-columns", "rpm", "--blades", "3", "--poles", "14",
      "--plot", str(OUT / "flight.png")],
     ["modes", str(REC / "tap-bolted.wav"), "--kind", "tap", "--plot", str(OUT / "tap.png")],
+    ["frame", str(EX / "frame" / "heron-s5.toml"), "--plot", str(OUT / "frame-heron-s5.png")],
 ]
 
 
