@@ -20,7 +20,7 @@ from .._lazy import lazy_getattr
 if TYPE_CHECKING:
     from .flight import FlightSettings, analyse_flight
     from .readers import Columns, Recording, open_recording
-    from .result import MeasuredMode, ModesResult, OrderStrength
+    from .result import Dwell, MeasuredMode, ModesResult, OrderStrength
     from .tap import TapSettings, analyse_tap
 
 #: Public names and their modules, loaded on first use: ``from clashcheck.identify
@@ -29,6 +29,7 @@ _LAZY = {
     "FlightSettings": "flight", "analyse_flight": "flight",
     "Columns": "readers", "Recording": "readers", "open_recording": "readers",
     "MeasuredMode": "result", "ModesResult": "result", "OrderStrength": "result",
+    "Dwell": "result",
     "TapSettings": "tap", "analyse_tap": "tap",
 }
 
@@ -46,4 +47,5 @@ __all__ = [
     "MeasuredMode",
     "OrderStrength",
     "ModesResult",
+    "Dwell",
 ]

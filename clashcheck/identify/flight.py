@@ -448,17 +448,47 @@ def _line_bounds(k: float, lo: np.ndarray, hi: np.ndarray, spread: np.ndarray,
     return k * lo - hw, k * hi + hw
 
 
-def _harmonic_rate(total: np.ndarray, df: float, pred: np.ndarray, orders: np.ndarray,
+def _log_background(total: np.ndarray, df: float) -> tuple[np.ndarray, np.ndarray]:
+    """The log spectrum of each segment and its running mean over ±20 Hz (cumulative sums).
+
+    The running mean of the log power is the log of a local geometric mean: a
+    line a few bins wide lifts it little, so ``logp − mean`` tells how far a
+    line stands out of its surroundings.
+    """
+    nseg, nf = total.shape
+    logp = np.log(np.maximum(total, 1e-300))
+    w = max(5, int(round(20.0 / df)))
+    c = np.zeros((nseg, nf + 1))
+    np.cumsum(logp, axis=1, out=c[:, 1:])
+    i = np.arange(nf)
+    lo, hi = np.maximum(i - w, 0), np.minimum(i + w + 1, nf)
+    return logp, (c[:, hi] - c[:, lo]) / (hi - lo)
+
+
+def _harmonic_rate(white: np.ndarray, df: float, pred: np.ndarray, orders: np.ndarray,
                    fmin: float, ftop: float) -> tuple[np.ndarray, np.ndarray]:
     """Rotor rate of each segment from its own spectrum, by harmonic summation.
 
     For each candidate rate f in :data:`ESTIMATE_RANGE` × the predicted rate,
-    the whitened log spectrum (log power less its 20 Hz running mean) is read
-    at every order k·f and the readings, clipped to 0–5 (up to 22 dB), are
-    summed; the candidate with the largest sum is the rotor rate (subharmonic
-    summation, Hermes, *J. Acoust. Soc. Am.* 83 (1988) 257–264; the harmonic
-    sum of Noll 1969).  A coarse grid on a ±3-bin maximum of the spectrum is
-    refined on the raw spectrum.
+    the whitened log spectrum (log power less its 20 Hz running mean,
+    :func:`_log_background`) is read at every order k·f and the readings,
+    clipped to 0–5 (up to 22 dB), are summed; the candidate with the largest
+    sum is the rotor rate (subharmonic summation, Hermes, *J. Acoust. Soc. Am.*
+    83 (1988) 257–264; the harmonic sum of Noll 1969).  A coarse grid on a
+    ±3-bin maximum of the spectrum is refined on the spectrum itself.
+
+    Parameters
+    ----------
+    white : ndarray
+        Whitened log spectra, (segments, frequencies) on a grid of ``df``.
+    df : float
+        Frequency step [Hz].
+    pred : ndarray
+        Predicted rotor rate per segment [Hz].
+    orders : ndarray
+        Orders summed.
+    fmin, ftop : float
+        Band in which lines are read [Hz].
 
     Returns
     -------
@@ -468,35 +498,37 @@ def _harmonic_rate(total: np.ndarray, df: float, pred: np.ndarray, orders: np.nd
         Number of orders standing more than 6 dB above their surroundings at
         the estimate.
     """
-    nseg, nf = total.shape
-    logp = np.log(np.maximum(total, 1e-300))
-    w = max(5, int(round(20.0 / df)))
-    c = np.cumsum(np.pad(logp, ((0, 0), (w, w)), mode="edge"), axis=1)
-    c = np.pad(c, ((0, 0), (1, 0)))
-    white = logp - (c[:, 2 * w + 1:2 * w + 1 + nf] - c[:, :nf]) / (2 * w + 1)
+    nseg, nf = white.shape
     wide = white.copy()
     for sh in (1, 2, 3):
         wide[:, sh:] = np.maximum(wide[:, sh:], white[:, :-sh])
         wide[:, :-sh] = np.maximum(wide[:, :-sh], white[:, sh:])
-    rows = np.arange(nseg)[:, None]
     kmax = float(orders.max())
+    # clipped once, with a zero column where out-of-band readings point
+    wide_c = np.zeros((nseg, nf + 1))
+    np.clip(wide, 0.0, 5.0, out=wide_c[:, :nf])
+    white_c = np.zeros((nseg, nf + 1))
+    np.clip(white, 0.0, 5.0, out=white_c[:, :nf])
+    rows = (np.arange(nseg) * (nf + 1))[:, None]
 
     def score(cand: np.ndarray, spec: np.ndarray) -> np.ndarray:
+        flat = spec.ravel()
         out = np.zeros(cand.shape)
         for k in orders:
             fk = k * cand
-            idx = np.clip(np.round(fk / df).astype(int), 0, nf - 1)
-            ok = (fk > fmin) & (fk < ftop)
-            out += np.where(ok, np.clip(spec[rows, idx], 0.0, 5.0), 0.0)
+            idx = np.rint(fk * (1.0 / df)).astype(np.intp)
+            idx[(fk <= fmin) | (fk >= ftop) | (idx >= nf)] = nf
+            out += flat[rows + idx]
         return out
 
     lo, hi = ESTIMATE_RANGE
-    step = 2.0 * df / (kmax * max(float(pred.max()), 1e-9))
+    # the coarse grid moves the top order by up to 5 bins, inside the ±3-bin maximum
+    step = 5.0 * df / (kmax * max(float(pred.max()), 1e-9))
     rel = np.exp(np.arange(math.log(lo), math.log(hi), step))
     cand = pred[:, None] * rel[None, :]
-    best = cand[np.arange(nseg), np.argmax(score(cand, wide), axis=1)]
-    fine = best[:, None] * np.exp(np.linspace(-2 * step, 2 * step, 17))[None, :]
-    est = fine[np.arange(nseg), np.argmax(score(fine, white), axis=1)]
+    best = cand[np.arange(nseg), np.argmax(score(cand, wide_c), axis=1)]
+    fine = best[:, None] * np.exp(np.linspace(-step, step, 21))[None, :]
+    est = fine[np.arange(nseg), np.argmax(score(fine, white_c), axis=1)]
     hits = np.zeros(nseg, dtype=int)
     for k in orders:
         fk = k * est
@@ -571,7 +603,8 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
         idx = np.flatnonzero(mask)
         band = slice(int(idx[0]), int(idx[-1]) + 1)  # a slice: band views, not copies
         state.update(fs=fs, fmax=fmax, stream=stream, band=band, nper=nper,
-                     df=float(stream.freq_hz[1]), line_hw=2.0 * fs / nper)
+                     df=float(stream.freq_hz[1]), line_hw=2.0 * fs / nper,
+                     fband=stream.freq_hz[band])
 
     def key_of(aux_mean: np.ndarray):
         """Segment bin values (rotor Hz, or throttle), their spread in time, the
@@ -619,44 +652,42 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
             out[rows, j] = np.maximum(line - (band - line) / nside * (b - a), 0.0) * df
         return out
 
-    def line_mask(total: np.ndarray, lo: np.ndarray, hi: np.ndarray,
-                  spread: np.ndarray) -> np.ndarray:
+    def line_mask(logp: np.ndarray, logbg: np.ndarray, lo: np.ndarray, hi: np.ndarray,
+                  spread: np.ndarray, rows_in: np.ndarray | None = None) -> np.ndarray:
         """1.0 where a frequency of the band is clear of every order line, else 0.0.
 
         Each line is masked over its main lobe and as far out as its Hann side
         lobes stand above the spectrum around it: the side lobes fall from
         −31.5 dB at 2.5 bins by about 18 dB per octave (Harris, Proc. IEEE 66
-        (1978) 51–83, Table 1), so a line r dB above its surroundings is masked
-        to 2.5 · 2^((r − 31.5)/18) resolution bins (2 to 12) on each side.
+        (1978) 51–83, Table 1), so a line r dB above its surroundings (its top
+        against the local geometric mean, plus 3 dB for the line's own share of
+        that mean) is masked to 2.5 · 2^((r − 31.5)/18) resolution bins (2 to
+        12) on each side.  Only the segments ``rows_in`` are masked (all by
+        default).
         """
-        band: slice = state["band"]
         df, line_hw = state["df"], state["line_hw"]
         res = line_hw / 2.0
-        nseg, nf = total.shape
-        f = np.arange(band.start, band.stop) * df
+        nseg, nf = logp.shape
+        f = state["fband"]
         keep = np.ones((nseg, f.size))
+        sel = np.ones(nseg, bool) if rows_in is None else rows_in
         rows = np.arange(nseg)
-        reach = int(round(12 * res / df))
         for k in mask_orders:
             flo, fhi = _line_bounds(k, lo, hi, spread, line_hw, df)
-            live = np.isfinite(flo) & (flo < f[-1]) & (fhi > f[0])
+            live = sel & np.isfinite(flo) & (flo < f[-1]) & (fhi > f[0])
             if not live.any():
                 continue
-            # the line's top and the median level around it, per segment (rows
+            # the line's top against the local background, per segment (rows
             # without a rate, NaN, are left unmasked)
-            mid = np.nan_to_num(0.5 * (flo + fhi) / df)
-            width = np.nan_to_num(0.5 * (fhi - flo) / df)
-            c = np.clip(np.round(mid).astype(int), 0, nf - 1)
-            half = np.clip(np.round(width).astype(int), 1, nf)
-            offs = np.arange(-reach - int(half.max()), reach + int(half.max()) + 1)
-            idx = np.clip(c[:, None] + offs[None, :], 0, nf - 1)
-            vals = total[rows[:, None], idx]
-            inside = np.abs(offs)[None, :] <= half[:, None]
-            top = np.where(inside, vals, 0.0).max(axis=1)
-            around = np.median(vals, axis=1)
-            with np.errstate(divide="ignore", invalid="ignore"):
-                r_db = 10.0 * np.log10(np.where(around > 0, top / around, 1.0))
-            d_res = np.clip(2.5 * 2.0 ** ((np.nan_to_num(r_db) - 31.5) / 18.0), 2.0, 12.0)
+            a_i = np.clip(np.rint(np.nan_to_num(flo / df)).astype(int), 0, nf - 1)
+            b_i = np.clip(np.rint(np.nan_to_num(fhi / df)).astype(int), 0, nf - 1)
+            width = int(max((b_i - a_i)[live].max(), 0)) + 1
+            offs = np.arange(width)
+            idx = np.minimum(a_i[:, None] + offs[None, :], b_i[:, None])
+            top = logp[rows[:, None], idx].max(axis=1)
+            mid = (a_i + b_i) // 2
+            r_db = (top - logbg[rows, mid]) * (10.0 / math.log(10.0)) + 3.0
+            d_res = np.clip(2.5 * 2.0 ** ((r_db - 31.5) / 18.0), 2.0, 12.0)
             extra = (d_res - 2.0) * res
             a = np.searchsorted(f, flo - extra)
             b = np.searchsorted(f, fhi + extra, side="right")
@@ -708,20 +739,32 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
                     df = state["df"]
                     top = min(psd.shape[2], int(USABLE_BAND * state["fs"] / df) + 2)
                     total = psd[:, :, :top].sum(axis=1)
-                    keep = line_mask(total, lo, hi, spread)
-                    powers.append(line_power(total, lo, hi, spread))
+                    logp, logbg = _log_background(total, df)
+                    keep = line_mask(logp, logbg, lo, hi, spread)
+                    pw = line_power(total, lo, hi, spread)
+                    powers.append(pw)
                     rotor_seg.append(value)
                     if predicted:
-                        e, h = _harmonic_rate(total, df, value, est_orders,
+                        e, h = _harmonic_rate(logp - logbg, df, value, est_orders,
                                               settings.min_frequency_hz, USABLE_BAND * state["fs"])
                         good = h >= 2
                         est = np.where(good, e, np.nan)
-                        ratio = np.where(good, e / value, np.nan)
-                        elo, ehi = lo * ratio, hi * ratio
-                        pe = line_power(total, elo, ehi, spread * np.where(good, ratio, 1.0))
+                        ratio = np.where(good, e / value, 1.0)
+                        # where the estimate moves the lines by more than half a
+                        # line window, read and mask them there too
+                        reach_hz = np.minimum(value * mask_orders.max(),
+                                              USABLE_BAND * state["fs"])
+                        moved = good & (np.abs(ratio - 1.0) * reach_hz > 0.5 * state["line_hw"])
+                        pe = pw.copy()
+                        pe[~good] = np.nan
+                        if moved.any():
+                            elo, ehi = lo * ratio, hi * ratio
+                            pm = line_power(total[moved], elo[moved], ehi[moved],
+                                            (spread * ratio)[moved])
+                            pe[moved] = pm
+                            keep *= line_mask(logp, logbg, elo, ehi, spread * ratio, moved)
                         powers_est.append(pe)
                         hits_seg.append(h)
-                        keep *= np.where(good[:, None], line_mask(total, elo, ehi, spread), 1.0)
                     est_seg.append(est)
                 else:
                     keep = np.ones((nseg, band_psd.shape[2]))
@@ -836,12 +879,13 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
     whole = np.stack([streamed.sums[k] / streamed.counts[k] for k in populated])  # (bins, ch, f)
     kept = np.stack([streamed.kept[k] for k in populated])  # (bins, f)
     counts_all = np.array([streamed.counts[k] for k in populated], dtype=float)
-    masked = np.stack([streamed.masked[k] for k in populated])
+    per_bin = np.stack([streamed.masked[k] for k in populated])  # masked sums, then means
     # a frequency counts in a bin only where most of the bin's segments kept it (a
     # mean of a few periodograms would put noise spikes into the median)
     enough = kept >= np.maximum(2.0, MIN_KEPT * counts_all[:, None])
     with np.errstate(invalid="ignore", divide="ignore"):
-        per_bin = np.where(enough[:, None, :], masked / kept[:, None, :], np.nan)
+        per_bin /= kept[:, None, :]
+    per_bin[~np.broadcast_to(enough[:, None, :], per_bin.shape)] = np.nan
     # one level per bin, common to the axes, so the axes keep their relative levels;
     # read where the order lines are masked (their leakage and sweeps would set it)
     level = np.median(whole.sum(axis=1, keepdims=True), axis=2, keepdims=True)
@@ -863,13 +907,16 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
                 ratio = ratio[np.isfinite(ratio) & (ratio > 0)]
                 if ratio.size >= 0.2 * summed.shape[1]:
                     level[i, 0, 0] = np.median(ratio)
-        normed = per_bin / level
+        per_bin /= level
+        normed = per_bin
         stationary = np.nanmedian(normed, axis=0)  # (ch, f)
-    normed_whole = whole / level
+    whole /= level
+    normed_whole = whole
     gap = ~np.isfinite(stationary)
     if gap.any():
         stationary[gap] = np.median(normed_whole, axis=0)[gap]
     normed_any = np.where(np.isfinite(normed), normed, normed_whole)
+    del whole, normed_whole
     window = hann_periodic(nper)
     full_model = stationary_model(fs, window, streamed.nfft)
 
@@ -920,14 +967,10 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
         The clear share is the part of the recording's segments in those bins.
         """
         spec = stationary[ch]
-        hp = corrected_half_power(freq, spec, pk.index, model, rel_error=rel_err)
-        if hp is None:
-            return None
-        fn = hp.peak_hz
-        fit = None
-        # the peak's core: its half-power band, at least two resolution bins each side
-        z0 = hp.damping if hp.damping is not None else 0.0
-        half = max(z0 * fn, 4 * df)
+        # the peak's core: its raw half-power band, at least two resolution bins each side
+        raw = half_power_raw(freq, spec, pk.index)
+        fn = pk.freq_hz
+        half = max((raw or 0.0) * fn, 4 * df)
         near = (freq >= fn - half) & (freq <= fn + half)
         whole = enough[:, near].mean(axis=1) >= 0.75 if near.any() else np.ones(len(counts_all), bool)
         share = float(counts_all[whole].sum() / counts_all.sum())
@@ -936,10 +979,14 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
                 _pywarnings.simplefilter("ignore", RuntimeWarning)
                 local = np.nanmedian(normed[whole, ch, :], axis=0)
             spec = np.where(np.isfinite(local), local, spec)
-            hp_local = corrected_half_power(freq, spec, pk.index, model, rel_error=rel_err)
-            if hp_local is not None:
-                hp = hp_local
-                fn = hp.peak_hz
+        hp = corrected_half_power(freq, spec, pk.index, model, rel_error=rel_err)
+        if hp is None and spec is not stationary[ch]:
+            spec = stationary[ch]
+            hp = corrected_half_power(freq, spec, pk.index, model, rel_error=rel_err)
+        if hp is None:
+            return None
+        fn = hp.peak_hz
+        fit = None
         if hp.damping is not None:
             fit = fit_band(freq, spec, hp.peak_hz, hp.damping, model, oversample, LEVEL)
             # the frequency from the model's peak shape (the band fit's slope term can
