@@ -184,3 +184,66 @@ def test_check_does_not_import_scipy_but_modes_does(repo, tap_wav):
     out = subprocess.run([sys.executable, "-c", code, "modes", str(tap_wav), "--kind", "tap"],
                          capture_output=True, text=True, cwd=repo, check=False)
     assert out.stdout.strip().splitlines()[-1].startswith("True")
+
+
+@pytest.fixture(scope="module")
+def toned_csv(tmp_path_factory):
+    """A flight with one mode (250 Hz) and a steady 315 Hz tone, a false low-damping peak."""
+    import numpy as np
+
+    path = tmp_path_factory.mktemp("tone") / "tone.csv"
+    blocks = list(flight_blocks([SynthMode(250.0, 0.03, (1.0, 0.5, 0.3))],
+                                [SynthOrder(1, (2.0, 2.0, 1.0)), SynthOrder(3, (4.0, 3.0, 1.0))],
+                                2000.0, 60.0, throttle=step_throttle(), forcing_rms=5.0, seed=2))
+    for b in blocks:  # the tone, added to every axis (stated here, not by the generator)
+        b["signals"] = b["signals"] + 0.3 * np.sin(2 * np.pi * 315.0 * b["time_s"])[:, None]
+    write_flight_csv(path, iter(blocks))
+    return path
+
+
+def test_candidates_stay_out_of_the_modes_file_unless_asked(runner, toned_csv, tmp_path):
+    args = ["modes", str(toned_csv), "--kind", "flight", "--signal", "gx,gy,gz",
+            "--time-column", "t", "--rpm-columns", "rpm", "--blades", "3", "--quiet"]
+    out = tmp_path / "m.toml"
+    res = runner.invoke(main, [*args, "--format", "json", "--output", str(out)])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.output)
+    assert [round(m["frequency_hz"]) for m in data["modes"]] == [250]
+    assert any(abs(c["frequency_hz"] - 315.0) < 1 for c in data["candidates"])
+    parsed = tomllib.loads(out.read_text(encoding="utf-8"))
+    assert [round(float(m["frequency"].split()[0])) for m in parsed["frame"]["modes"]] == [250]
+    # the measured dwell, in the shape the verdict rule reads
+    assert set(parsed["dwell"]) == {"throttle", "share"} or set(parsed["dwell"]) == {"rotor_hz",
+                                                                                      "share"}
+    assert sum(parsed["dwell"]["share"]) == pytest.approx(1.0)
+    out2 = tmp_path / "all.toml"
+    res = runner.invoke(main, [*args, "--include-candidates", "--output", str(out2)])
+    assert res.exit_code == 0, res.output
+    freqs = [float(m["frequency"].split()[0])
+             for m in tomllib.loads(out2.read_text(encoding="utf-8"))["frame"]["modes"]]
+    assert any(abs(f - 315.0) < 1 for f in freqs)
+
+
+def test_check_reads_a_modes_file_with_dwell(runner, flight_csv, tmp_path, repo):
+    out = tmp_path / "m.toml"
+    res = runner.invoke(main, ["modes", str(flight_csv), "--kind", "flight", "--signal", "gx,gy,gz",
+                               "--time-column", "t", "--throttle-column", "throttle",
+                               "--rpm-columns", "rpm", "--blades", "3", "--output", str(out)])
+    assert res.exit_code == 0, res.output
+    assert "dwell" in tomllib.loads(out.read_text(encoding="utf-8"))
+    res = runner.invoke(main, ["check", str(repo / "examples" / "freestyle-5in.toml"),
+                               "--modes", str(out)])
+    assert res.exit_code in (0, 1), res.output  # a verdict, not an input error
+
+
+@pytest.mark.parametrize("args, flag", [
+    (["--axes", "roll,pitch,sideways"], "--axes"),
+    (["--axes", "roll"], "--axes"),
+    (["--max-frequency", "10 Hz"], "--max-frequency"),
+])
+def test_library_fields_reach_the_user_as_flags(runner, flight_csv, args, flag):
+    res = runner.invoke(main, ["modes", str(flight_csv), "--kind", "flight", "--signal", "gx,gy,gz",
+                               "--time-column", "t", "--rpm-columns", "rpm", *args])
+    assert res.exit_code == 2
+    (line,) = [ln for ln in res.stderr.splitlines() if ln.strip()]
+    assert line.startswith(f"clashcheck: error: {flag}:") and "Traceback" not in res.output

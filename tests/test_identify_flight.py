@@ -137,7 +137,7 @@ def test_throttle_with_a_drive_model_measures_orders(tmp_path):
 
 def test_needs_rotor_rate_or_throttle(tmp_path):
     path = _npy(tmp_path / "n.npy", [SynthMode(300.0, 0.03, (1.0, 1.0, 1.0))], [], duration=5.0)
-    with pytest.raises(InputError, match="--rpm-columns"):
+    with pytest.raises(InputError, match="rpm_columns"):  # the library names its own field
         analyse_flight(open_recording(path, Columns(signals=("gx",), time_column="t")))
 
 

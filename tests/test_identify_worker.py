@@ -180,3 +180,24 @@ def test_the_modes_command_gives_the_same_json_through_the_child(flight_csv, mon
         outputs.append(res.output)
     assert worker._spare is None and started == [True]
     assert outputs[1] == outputs[0]
+
+
+def test_the_worker_imports_no_analysis():
+    # issue 9 §6: the flight analysis imports the worker, never the other way round
+    import ast
+    import inspect
+
+    tree = ast.parse(inspect.getsource(worker))
+    imported = [node.module or "" for node in ast.walk(tree) if isinstance(node, ast.ImportFrom)]
+    imported += [a.name for node in ast.walk(tree) if isinstance(node, ast.Import)
+                 for a in node.names]
+    assert not any(name.endswith("flight") or ".flight" in name for name in imported)
+
+
+def test_the_worker_runs_only_passes_of_this_package():
+    from clashcheck.identify import flight
+
+    assert worker._resolve(flight.STREAM_PASS) is flight.stream_flight
+    for bad in ("os:system", "clashcheck.identify.flight:not a name", "builtins:eval"):
+        with pytest.raises(ValueError, match="unknown pass"):
+            worker._resolve(bad)

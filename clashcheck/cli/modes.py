@@ -5,7 +5,7 @@ from __future__ import annotations
 import sys
 from collections.abc import Callable
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 import click
 
@@ -69,10 +69,10 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @click.option("--output", "-o", type=PATH, help="Also write the modes as a build fragment (TOML).")
 @click.option("--include-candidates", is_flag=True,
-              help="Also write weak or flagged peaks (confidence below the floor) as modes.")
+              help="Write peaks below the confidence floor into the modes file too.")
 @click.option("--quiet", "-q", is_flag=True, help="No progress bar.")
 def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str | None, fmt: str,
-                  output: Path | None, quiet: bool, **opts) -> None:
+                  output: Path | None, quiet: bool, include_candidates: bool, **opts) -> None:
     """Find frame modes (frequency, damping, axis) in a tap test or flight recording.
 
     Tap tests are done with the propellers removed. Results are design advice.
@@ -95,15 +95,17 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
                              opts.pop("rpm_unit"), opts["poles"])
     rec = open_recording(recording, columns)
     band = dict(min_frequency_hz=opts["min_frequency"], max_frequency_hz=opts["max_frequency"])
-    settings: Any  # TapSettings or FlightSettings, matching `analyse`
-    analyse: Callable[..., ModesResult]
+    run: Callable[[Callable[[int, int], None]], ModesResult]
     if kind == "tap":
-        settings = TapSettings(resolution_hz=opts["resolution"],
-                               include_candidates=opts["include_candidates"], **band)
-        analyse = analyse_tap
+        tap_settings = TapSettings(resolution_hz=opts["resolution"], **band)
+
+        def run(tick: Callable[[int, int], None]) -> ModesResult:
+            return analyse_tap(rec, tap_settings, progress=tick)
     else:
-        settings = FlightSettings(**band, **_modes_flight_options(opts, axes, build_file))
-        analyse = analyse_flight
+        flight_settings = FlightSettings(**band, **_modes_flight_options(opts, axes, build_file))
+
+        def run(tick: Callable[[int, int], None]) -> ModesResult:
+            return analyse_flight(rec, flight_settings, progress=tick)
     with _modes_progress(quiet, rec.rows_estimate, len(rec.signal_names)) as bar:
         last = [0]
 
@@ -112,9 +114,10 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
                 bar.update(max(0, min(done, total) - last[0]))
                 last[0] = max(last[0], min(done, total))
 
-        result = analyse(rec, settings, progress=tick)
+        result = run(tick)
     if output is not None:
-        emit(render_toml(result), output, [recording] + ([build_file] if build_file else []))
+        emit(render_toml(result, include_candidates=include_candidates), output,
+             [recording] + ([build_file] if build_file else []))
     click.echo(render_json(result) if fmt == "json" else render_table(result), nl=False)
 
 
@@ -138,12 +141,17 @@ def _modes_flight_options(opts: dict, axes: str | None, build_file: Path | None)
     return out
 
 
-#: Library fields (TapSettings, FlightSettings) and the flags that set them.
+#: Library fields of the analysis settings and the flag that sets each.
 FIELD_FLAGS = {
     "min_frequency_hz": "--min-frequency",
     "max_frequency_hz": "--max-frequency",
     "resolution_hz": "--resolution",
     "include_candidates": "--include-candidates",
+    "axes": "--axes",
+    "blades": "--blades",
+    "poles": "--poles",
+    "slots": "--slots",
+    "rpm_columns": "--rpm-columns",
 }
 
 #: The commands this module adds to the group.

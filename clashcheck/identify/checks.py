@@ -70,6 +70,8 @@ class Run:
     rotor_hz: np.ndarray | None = None
     #: Throttle per row as read, or ``None``.
     throttle: np.ndarray | None = None
+    #: Rotor rate [Hz] of each motor, (rows, motors), or ``None``.
+    rotor_each_hz: np.ndarray | None = None
 
 
 @dataclass
@@ -189,7 +191,7 @@ class Conditioner:
         self._rows_read += n
         if n == 0:
             return
-        parts = _Parts(block.signals, block.rotor_hz, block.throttle)
+        parts = _Parts(block.signals, block.rotor_hz, block.throttle, block.rotor_each_hz)
         bad = _bad_rows(block)
         if bad is not None:
             self._missing += int(bad.sum())
@@ -281,7 +283,8 @@ class Conditioner:
 
     def _emit(self, first_row: int, parts: _Parts) -> Run:
         self._account(parts.signals)
-        return Run(self._run, first_row, parts.signals, parts.rotor_hz, parts.throttle)
+        return Run(self._run, first_row, parts.signals, parts.rotor_hz, parts.throttle,
+                   parts.rotor_each)
 
     def _uniform(self, first_row: int, parts: _Parts, bad: np.ndarray | None) -> Iterator[Run]:
         if bad is None:
@@ -416,15 +419,19 @@ class _Parts:
     signals: np.ndarray
     rotor_hz: np.ndarray | None
     throttle: np.ndarray | None
+    rotor_each: np.ndarray | None = None
 
     def __getitem__(self, index) -> _Parts:
         return _Parts(self.signals[index],
                       None if self.rotor_hz is None else self.rotor_hz[index],
-                      None if self.throttle is None else self.throttle[index])
+                      None if self.throttle is None else self.throttle[index],
+                      None if self.rotor_each is None else self.rotor_each[index])
 
     def stacked(self) -> np.ndarray:
-        """One (rows, columns) array: signals, then rotor rate and throttle if present."""
+        """One (rows, columns) array: signals, rotor rate, throttle, each motor's rate."""
         extra = [a[:, None] for a in (self.rotor_hz, self.throttle) if a is not None]
+        if self.rotor_each is not None:
+            extra.append(self.rotor_each)
         return np.hstack([self.signals, *extra]) if extra else self.signals
 
     def unstacked(self, values: np.ndarray) -> _Parts:
@@ -433,7 +440,11 @@ class _Parts:
         col = iter(range(nsig, values.shape[1]))
         rotor = None if self.rotor_hz is None else values[:, next(col)]
         thr = None if self.throttle is None else values[:, next(col)]
-        return _Parts(np.ascontiguousarray(values[:, :nsig]), rotor, thr)
+        each = None
+        if self.rotor_each is not None:
+            first = next(col)
+            each = values[:, first:first + self.rotor_each.shape[1]]
+        return _Parts(np.ascontiguousarray(values[:, :nsig]), rotor, thr, each)
 
 
 def _bad_rows(block: Block) -> np.ndarray | None:

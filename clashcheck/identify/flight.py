@@ -34,7 +34,8 @@ from __future__ import annotations
 import math
 import os
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
+from typing import Any
 
 import numpy as np
 
@@ -53,13 +54,15 @@ from .damping import (
     refine_frequency,
     stationary_model,
 )
+from .flight_fit import LEVEL, fit_band
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
-from .result import MeasuredMode, ModesResult, OrderStrength
+from .result import Dwell, MeasuredMode, ModesResult, OrderStrength
 from .spectra import SegmentStream, hann_periodic, segment_length
 
 __all__ = ["FlightSettings", "analyse_flight", "stream_flight", "StreamedFlight", "order_families",
-           "MIN_SEGMENTS", "MIN_BINS"]
+           "MIN_SEGMENTS", "MIN_BINS", "CONFIDENCE_FLOOR", "DRIVE_TOLERANCE", "MOTOR_SPREAD",
+           "DWELL_BANDS"]
 
 #: Fewest Welch segments a flight analysis accepts.
 MIN_SEGMENTS = 16
@@ -67,8 +70,45 @@ MIN_SEGMENTS = 16
 MIN_BINS = 5
 #: A peak's prominence must exceed this many standard errors of the median spectrum.
 SIGNIFICANCE = 5.0
+#: Modes below this confidence are listed as candidates and kept out of the modes
+#: (and the modes file) unless asked for.  Confidence rises from 0 at 4 dB above
+#: the floor to 1 at 16 dB, times 0.75 for a loose fit (90 % interval wider than
+#: ±50 %) and 0.4 for a very loose one (see ``_merge_axes``).  Judgement: a peak
+#: 7 dB above its floor with a clean fit passes; a peak narrower than the
+#: resolution never does (:data:`BOUND_CONFIDENCE`).
+CONFIDENCE_FLOOR = 0.25
+#: Highest confidence of a peak narrower than the resolution (a steady tone, a
+#: fan or supply line, more often than a frame mode): below the floor.
+BOUND_CONFIDENCE = 0.2
+#: Relative disagreement between the drive model's rotor rate and the one the
+#: log's own order lines show, beyond which the log's estimate is used.
+#: Judgement: a drive model within 5 % is as good as the line windows need.
+DRIVE_TOLERANCE = 0.05
+#: Motor-to-motor spread of rotor rate assumed (±, relative) when the log does not
+#: give each motor's rate: attitude control keeps motors apart by about this much
+#: (judgement); the order-line windows and masks cover it.
+MOTOR_SPREAD = 0.01
+#: Whole orders masked out of the stationary spectrum (beside the family orders).
+MASK_ORDERS = 8
+#: Range, relative to the drive model's rotor rate, searched for the log's own rate.
+ESTIMATE_RANGE = (0.65, 1.5)
+#: Share of a bin's segments that must keep a frequency (clear of order lines) for
+#: the bin to vote on it in the stationary spectrum.
+MIN_KEPT = 0.5
+#: Least share of the recording in which a mode's band is clear of order lines for
+#: its figures to keep their confidence; below it the confidence falls in
+#: proportion, halved (judgement: a mode hidden under a line most of the flight
+#: is measured from the passages only).
+MIN_CLEAR = 0.5
+#: Fewest segments in which an order and the reference order are read together.
+MIN_ORDER_SEGMENTS = 8
+#: Throttle bands of the measured dwell (equal bands over 0–1).
+DWELL_BANDS = 10
 
 Progress = Callable[[int, int], None]
+
+#: The streaming pass, as the second process finds it (``module:function``).
+STREAM_PASS = "clashcheck.identify.flight:stream_flight"
 
 
 @dataclass(frozen=True)
@@ -106,22 +146,22 @@ class FlightSettings:
 
     def __post_init__(self) -> None:
         if not self.min_frequency_hz > 0:
-            raise InputError("--min-frequency", "a frequency above 0 Hz", self.min_frequency_hz)
+            raise InputError("min_frequency_hz", "a frequency above 0 Hz", self.min_frequency_hz)
         if self.max_frequency_hz is not None and not self.max_frequency_hz > self.min_frequency_hz:
-            raise InputError("--max-frequency", "a frequency above --min-frequency",
+            raise InputError("max_frequency_hz", "a frequency above the lowest one looked for",
                              self.max_frequency_hz)
         if not self.resolution_hz > 0:
-            raise InputError("--resolution", "a resolution above 0 Hz", self.resolution_hz)
+            raise InputError("resolution_hz", "a resolution above 0 Hz", self.resolution_hz)
         if self.axes is not None:
             for a in self.axes:
                 if a not in MODE_AXES:
-                    raise InputError("--axes", "names from " + ", ".join(MODE_AXES), a)
-        for name, val, least in (("--blades", self.blades, 1), ("--poles", self.poles, 2),
-                                 ("--slots", self.slots, 3)):
+                    raise InputError("axes", "names from " + ", ".join(MODE_AXES), a)
+        for name, val, least in (("blades", self.blades, 1), ("poles", self.poles, 2),
+                                 ("slots", self.slots, 3)):
             if val is not None and (int(val) != val or val < least):
                 raise InputError(name, f"a whole number of at least {least}", val)
         if self.poles is not None and self.poles % 2:
-            raise InputError("--poles", "an even number of magnet poles", self.poles)
+            raise InputError("poles", "an even number of magnet poles", self.poles)
         if not 0.005 <= self.bin_width <= 0.2:
             raise InputError("bin_width", "a relative width from 0.005 to 0.2", self.bin_width)
 
@@ -189,31 +229,6 @@ def _preload_scipy() -> None:
     threading.Thread(target=_import_scipy, name="clashcheck-preload", daemon=True).start()
 
 
-class _Bins:
-    """Per-bin sums of band-limited periodograms."""
-
-    def __init__(self, width: float) -> None:
-        self.step = math.log1p(width)
-        self.sums: dict[int, np.ndarray] = {}
-        self.counts: dict[int, int] = {}
-        self.values: dict[int, float] = {}
-
-    def add(self, key_values: np.ndarray, psd: np.ndarray) -> None:
-        keys = np.floor(np.log(key_values) / self.step).astype(int)
-        # segments come in time order and the rotor rate changes slowly: sum runs of
-        # equal keys as slices (views), not boolean copies
-        edges = np.r_[0, np.flatnonzero(np.diff(keys)) + 1, keys.size]
-        for a, b in zip(edges[:-1], edges[1:]):
-            k = int(keys[a])
-            part = psd[a:b].sum(axis=0)
-            if k in self.sums:
-                self.sums[k] += part
-            else:
-                self.sums[k] = part
-            self.counts[k] = self.counts.get(k, 0) + int(b - a)
-            self.values[k] = self.values.get(k, 0.0) + float(key_values[a:b].sum())
-
-
 def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettings(),
                    progress: Progress | None = None) -> ModesResult:
     """Find stationary frame modes and measured order strengths in a flight recording.
@@ -245,7 +260,8 @@ def analyse_flight(recording: Recording, settings: FlightSettings = FlightSettin
 
     plan = _plan(recording, settings)
     streamed = None
-    child = worker.start("flight", recording, settings) if worker.wanted(recording, settings) else None
+    child = (worker.start(STREAM_PASS, recording, settings)
+             if worker.wanted(recording, settings) else None)
     if child is not None:
         with child:
             _import_scipy()  # here, while the child streams the recording
@@ -269,8 +285,7 @@ class _Plan:
 
 def _plan(recording: Recording, settings: FlightSettings) -> _Plan:
     if not (recording.has_rotor or recording.has_throttle):
-        raise InputError("--rpm-columns", "rotor-rate columns (--rpm-columns) or a throttle "
-                         "column (--throttle-column)", None,
+        raise InputError("rpm_columns", "rotor-rate columns or a throttle column", None,
                          "a flight analysis bins its spectra by rotor rate")
     warnings: list[str] = []
     rotor_known = recording.has_rotor or settings.rotor_of_throttle is not None
@@ -284,9 +299,94 @@ def _plan(recording: Recording, settings: FlightSettings) -> _Plan:
     nch = len(recording.signal_names)
     axes = settings.axes or (("roll", "pitch", "yaw")[:nch] if nch <= 3 else None)
     if axes is None or len(axes) != nch:
-        raise InputError("--axes", f"{nch} axis names (roll, pitch, yaw or any), one per signal",
+        raise InputError("axes", f"{nch} axis names (roll, pitch, yaw or any), one per signal",
                          settings.axes)
     return _Plan(rotor_known, families, sorted(families), tuple(axes), tuple(warnings))
+
+
+class _Bins:
+    """Per-bin sums of band-limited periodograms, whole and with the order lines masked."""
+
+    def __init__(self, width: float) -> None:
+        self.step = math.log1p(width)
+        self.sums: dict[int, np.ndarray] = {}
+        self.masked: dict[int, np.ndarray] = {}
+        self.kept: dict[int, np.ndarray] = {}
+        self.counts: dict[int, int] = {}
+        self.values: dict[int, float] = {}
+        self.estimates: dict[int, float] = {}
+        self.estimated: dict[int, int] = {}
+
+    def add(self, key_values: np.ndarray, psd: np.ndarray, keep: np.ndarray,
+            estimate: np.ndarray) -> None:
+        keys = np.floor(np.log(key_values) / self.step).astype(int)
+        # segments come in time order and the rotor rate changes slowly: sum runs of
+        # equal keys as slices (views), not boolean copies
+        edges = np.r_[0, np.flatnonzero(np.diff(keys)) + 1, keys.size]
+        for a, b in zip(edges[:-1], edges[1:]):
+            k = int(keys[a])
+            part = psd[a:b].sum(axis=0)
+            kp = keep[a:b]
+            masked = np.einsum("scf,sf->cf", psd[a:b], kp)
+            kept = kp.sum(axis=0)
+            if k in self.sums:
+                self.sums[k] += part
+                self.masked[k] += masked
+                self.kept[k] += kept
+            else:
+                self.sums[k], self.masked[k], self.kept[k] = part, masked, kept
+            self.counts[k] = self.counts.get(k, 0) + int(b - a)
+            self.values[k] = self.values.get(k, 0.0) + float(key_values[a:b].sum())
+            est = estimate[a:b]
+            good = np.isfinite(est)
+            self.estimates[k] = self.estimates.get(k, 0.0) + float(est[good].sum())
+            self.estimated[k] = self.estimated.get(k, 0) + int(good.sum())
+
+
+class _Occupancy:
+    """Time spent per throttle band (or rotor-rate band), counted per sample."""
+
+    def __init__(self, quantity: str) -> None:
+        self.quantity = quantity
+        # throttle: 1 % bands over 0–1; rotor rate: 1 Hz bands
+        self.step = 0.01 if quantity == "throttle" else 1.0
+        self.counts = np.zeros(0, dtype=np.int64)
+
+    def add(self, values: np.ndarray) -> None:
+        v = values[np.isfinite(values)]
+        if self.quantity == "throttle":
+            v = np.clip(v, 0.0, 1.0 - 1e-12)
+        idx = np.floor(np.maximum(v, 0.0) / self.step).astype(np.int64)
+        if not idx.size:
+            return
+        add = np.bincount(idx)
+        if add.size > self.counts.size:
+            self.counts = np.pad(self.counts, (0, add.size - self.counts.size))
+        self.counts[: add.size] += add
+
+    def result(self) -> Dwell | None:
+        total = int(self.counts.sum())
+        if total == 0:
+            return None
+        if self.quantity == "throttle":
+            edges = np.round(np.linspace(0.0, 1.0, DWELL_BANDS + 1), 6)
+            fine = np.pad(self.counts, (0, max(0, 100 - self.counts.size)))[:100]
+            share = fine.reshape(DWELL_BANDS, -1).sum(axis=1) / total
+        else:
+            used = np.flatnonzero(self.counts)
+            lo = float(used[0]) * self.step
+            hi = float(used[-1] + 1) * self.step
+            width = max(math.ceil((hi - lo) / DWELL_BANDS / 5.0) * 5.0, 5.0)
+            lo = math.floor(lo / 5.0) * 5.0
+            nb = max(1, math.ceil((hi - lo) / width))
+            edges = lo + width * np.arange(nb + 1, dtype=float)
+            centres = (np.arange(self.counts.size) + 0.5) * self.step
+            which = np.clip(((centres - lo) // width).astype(int), 0, nb - 1)
+            share = np.bincount(which, weights=self.counts, minlength=nb) / total
+        share = np.round(share, 6)
+        share[int(np.argmax(share))] += 1.0 - float(share.sum())  # exact sum after rounding
+        return Dwell(self.quantity, tuple(float(e) for e in edges),
+                     tuple(max(float(x), 0.0) for x in share))
 
 
 @dataclass
@@ -306,19 +406,121 @@ class StreamedFlight:
     sums: dict[int, np.ndarray]
     counts: dict[int, int]
     values: dict[int, float]
-    #: Per order (in :func:`order_families` order): line power of each steady segment.
-    order_samples: list[np.ndarray]
+    #: Per bin: summed periodograms with the order lines masked, and how many
+    #: segments each frequency kept.
+    masked: dict[int, np.ndarray]
+    kept: dict[int, np.ndarray]
+    #: Per bin: summed rotor-rate estimates from the log [Hz] and their number.
+    estimates: dict[int, float]
+    estimated: dict[int, int]
+    #: Line power of every order (columns, in :func:`order_families` order) in
+    #: every segment (rows); NaN where the line could not be read.  From the
+    #: known or predicted rotor rate, and from the rate estimated from the log.
+    order_power: np.ndarray
+    order_power_est: np.ndarray
+    #: Per segment: rotor rate used [Hz] (known or predicted), estimated from the
+    #: log [Hz] (NaN when not estimated) and the number of lines the estimate hit.
+    rotor_hz: np.ndarray
+    rotor_est_hz: np.ndarray
+    est_hits: np.ndarray
+    #: Measured occupancy (throttle or rotor-rate bands).
+    dwell: Dwell | None
     #: The recording checks' findings.
     findings: Findings
     #: Warnings of the pass (without the findings' own).
     warnings: list[str]
 
 
+def _line_bounds(k: float, lo: np.ndarray, hi: np.ndarray, spread: np.ndarray,
+                 line_hw: float, df: float) -> tuple[np.ndarray, np.ndarray]:
+    """Frequency range [Hz] of order ``k``'s line in each segment.
+
+    The range covers every motor's line (``lo``..``hi`` are the slowest and
+    fastest motor's mean rate), the window's main lobe (``line_hw``) and the
+    rate's change within the segment (``spread``, its standard deviation; a
+    uniform sweep of width w has standard deviation w/√12, so √3·σ is half its
+    width; derived).
+    """
+    hw = line_hw + k * math.sqrt(3.0) * spread + df
+    return k * lo - hw, k * hi + hw
+
+
+def _harmonic_rate(total: np.ndarray, df: float, pred: np.ndarray, orders: np.ndarray,
+                   fmin: float, ftop: float) -> tuple[np.ndarray, np.ndarray]:
+    """Rotor rate of each segment from its own spectrum, by harmonic summation.
+
+    For each candidate rate f in :data:`ESTIMATE_RANGE` × the predicted rate,
+    the whitened log spectrum (log power less its 20 Hz running mean) is read
+    at every order k·f and the readings, clipped to 0–5 (up to 22 dB), are
+    summed; the candidate with the largest sum is the rotor rate (subharmonic
+    summation, Hermes, *J. Acoust. Soc. Am.* 83 (1988) 257–264; the harmonic
+    sum of Noll 1969).  A coarse grid on a ±3-bin maximum of the spectrum is
+    refined on the raw spectrum.
+
+    Returns
+    -------
+    rate_hz : ndarray
+        Estimated rotor rate per segment [Hz].
+    hits : ndarray
+        Number of orders standing more than 6 dB above their surroundings at
+        the estimate.
+    """
+    nseg, nf = total.shape
+    logp = np.log(np.maximum(total, 1e-300))
+    w = max(5, int(round(20.0 / df)))
+    c = np.cumsum(np.pad(logp, ((0, 0), (w, w)), mode="edge"), axis=1)
+    c = np.pad(c, ((0, 0), (1, 0)))
+    white = logp - (c[:, 2 * w + 1:2 * w + 1 + nf] - c[:, :nf]) / (2 * w + 1)
+    wide = white.copy()
+    for sh in (1, 2, 3):
+        wide[:, sh:] = np.maximum(wide[:, sh:], white[:, :-sh])
+        wide[:, :-sh] = np.maximum(wide[:, :-sh], white[:, sh:])
+    rows = np.arange(nseg)[:, None]
+    kmax = float(orders.max())
+
+    def score(cand: np.ndarray, spec: np.ndarray) -> np.ndarray:
+        out = np.zeros(cand.shape)
+        for k in orders:
+            fk = k * cand
+            idx = np.clip(np.round(fk / df).astype(int), 0, nf - 1)
+            ok = (fk > fmin) & (fk < ftop)
+            out += np.where(ok, np.clip(spec[rows, idx], 0.0, 5.0), 0.0)
+        return out
+
+    lo, hi = ESTIMATE_RANGE
+    step = 2.0 * df / (kmax * max(float(pred.max()), 1e-9))
+    rel = np.exp(np.arange(math.log(lo), math.log(hi), step))
+    cand = pred[:, None] * rel[None, :]
+    best = cand[np.arange(nseg), np.argmax(score(cand, wide), axis=1)]
+    fine = best[:, None] * np.exp(np.linspace(-2 * step, 2 * step, 17))[None, :]
+    est = fine[np.arange(nseg), np.argmax(score(fine, white), axis=1)]
+    hits = np.zeros(nseg, dtype=int)
+    for k in orders:
+        fk = k * est
+        idx = np.clip(np.round(fk / df).astype(int), 0, nf - 1)
+        hits += ((fk > fmin) & (fk < ftop) & (wide[np.arange(nseg), idx] > math.log(4.0)))
+    return est, hits
+
+
 def stream_flight(recording: Recording, settings: FlightSettings = FlightSettings(),
                   progress: Progress | None = None) -> StreamedFlight:
     """The streaming pass of :func:`analyse_flight`: checks, spectra, bins, order lines.
 
-    Uses numpy only; nothing of length proportional to the recording is kept.
+    Uses numpy only; what it keeps grows with the recording only by a few
+    numbers per spectral segment.
+
+    Parameters
+    ----------
+    recording : Recording
+        An opened recording.
+    settings : FlightSettings
+        Analysis settings.
+    progress : callable, optional
+        Called as ``progress(rows_done, rows_total)``.
+
+    Returns
+    -------
+    StreamedFlight
 
     Raises
     ------
@@ -328,13 +530,23 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
     plan = _plan(recording, settings)
     warnings = list(plan.warnings)
     order_arr = np.array(plan.order_list)
-    # per-segment line powers; small (orders × segments), kept for a median
-    order_samples: list[list[np.ndarray]] = [[] for _ in plan.order_list]
+    # the lines masked out of the stationary spectrum: every family order and the
+    # whole orders 1–8 (harmonics a log shows whatever the build)
+    mask_orders = np.array(sorted(set(plan.order_list) | set(range(1, MASK_ORDERS + 1))))
+    est_orders = np.array(sorted(set(range(1, MASK_ORDERS + 1)) | {k for k in plan.order_list
+                                                                    if k <= 16}))
+    powers: list[np.ndarray] = []
+    powers_est: list[np.ndarray] = []
+    rotor_seg: list[np.ndarray] = []
+    est_seg: list[np.ndarray] = []
+    hits_seg: list[np.ndarray] = []
 
     cond = Conditioner(recording)
-    state: dict[str, object] = {}
+    state: dict[str, Any] = {}
     bins = _Bins(settings.bin_width)
-    throttle_scale = [None]
+    occupancy = _Occupancy("throttle" if recording.has_throttle else "rotor_hz")
+    throttle_scale: list[float | None] = [None]
+    predicted = not recording.has_rotor and settings.rotor_of_throttle is not None
 
     def setup(fs: float) -> None:
         fmax = settings.max_frequency_hz
@@ -355,88 +567,176 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
         idx = np.flatnonzero(mask)
         band = slice(int(idx[0]), int(idx[-1]) + 1)  # a slice: band views, not copies
         state.update(fs=fs, fmax=fmax, stream=stream, band=band, nper=nper,
-                     cum_df=stream.freq_hz[1])
+                     df=float(stream.freq_hz[1]), line_hw=2.0 * fs / nper)
 
-    def key_of(aux_mean: np.ndarray) -> tuple[np.ndarray, np.ndarray, bool]:
-        """Segment bin values (rotor Hz, or throttle), their spread, and rotor-ness."""
+    def key_of(aux_mean: np.ndarray):
+        """Segment bin values (rotor Hz, or throttle), their spread in time, the
+        slowest and fastest motor's rate, and rotor-ness."""
         mean, sq = aux_mean[0], aux_mean[1]
         spread = np.sqrt(np.maximum(sq - mean * mean, 0.0))
         if recording.has_rotor:
-            return mean, spread, True
+            if aux_mean.shape[0] > 2:  # each motor's own rate
+                each = aux_mean[2:]
+                return mean, spread, each.min(axis=0), each.max(axis=0), True
+            return mean, spread, mean * (1 - MOTOR_SPREAD), mean * (1 + MOTOR_SPREAD), True
         if settings.rotor_of_throttle is not None:
             lo = np.asarray(settings.rotor_of_throttle(np.clip(mean - spread, 0, 1)), float)
             mid = np.asarray(settings.rotor_of_throttle(np.clip(mean, 0, 1)), float)
             hi = np.asarray(settings.rotor_of_throttle(np.clip(mean + spread, 0, 1)), float)
-            return mid, 0.5 * np.abs(hi - lo), True
-        return mean, spread, False
+            sp = 0.5 * np.abs(hi - lo)
+            return mid, sp, mid * (1 - MOTOR_SPREAD), mid * (1 + MOTOR_SPREAD), True
+        return mean, spread, mean, mean, False
 
-    def measure_orders(psd: np.ndarray, rotor: np.ndarray, spread: np.ndarray) -> None:
-        fs = state["fs"]
-        stream: SegmentStream = state["stream"]  # type: ignore[assignment]
-        df = stream.freq_hz[1]
-        # sum over axes, (seg, freq), up to the highest bin an order line is read at
-        top = min(psd.shape[2], int(USABLE_BAND * fs / df) + 2)
-        total = psd[:, :, :top].sum(axis=1)
+    def line_power(total: np.ndarray, lo: np.ndarray, hi: np.ndarray,
+                   spread: np.ndarray) -> np.ndarray:
+        """Power of each order's lines above the background beside them, (segs, orders)."""
+        fs, df, line_hw = state["fs"], state["df"], state["line_hw"]
         nf = total.shape[1]
-        line_hw = 2.0 * fs / state["nper"]
+        out = np.full((total.shape[0], order_arr.size), np.nan)
         for j, k in enumerate(order_arr):
             # only segments where the rotor rate held steady: the line then fits in the
-            # window's main lobe (2 bins) and the background beside it is clean
+            # window's main lobe and the background beside it is clean
             smear = k * math.sqrt(3.0) * spread
-            hw = line_hw + smear + df
-            fk = k * rotor
-            ok = ((fk - 3 * hw > settings.min_frequency_hz * 0.5)
-                  & (fk + 3 * hw < USABLE_BAND * fs)
-                  & (smear <= np.maximum(line_hw, 0.01 * fk)))
+            flo, fhi = _line_bounds(k, lo, hi, spread, line_hw, df)
+            side = 2.0 * (line_hw + df)
+            ok = ((flo - side > settings.min_frequency_hz * 0.5)
+                  & (fhi + side < USABLE_BAND * fs)
+                  & (smear <= np.maximum(line_hw, 0.01 * k * lo))
+                  & np.isfinite(flo))
             rows = np.flatnonzero(ok)
             if not rows.size:
                 continue
-            fk, hw = fk[rows], hw[rows]
-            lo = np.clip(np.round((fk - hw) / df).astype(int), 0, nf - 1)
-            hi = np.clip(np.round((fk + hw) / df).astype(int) + 1, 1, nf)
-            blo = np.clip(np.round((fk - 3 * hw) / df).astype(int), 0, nf - 1)
-            bhi = np.clip(np.round((fk + 3 * hw) / df).astype(int) + 1, 1, nf)
-            line, band = _window_sums(total, rows, blo, lo, hi, bhi)
-            nside = np.maximum((bhi - blo) - (hi - lo), 1)
-            power = np.maximum(line - (band - line) / nside * (hi - lo), 0.0) * df
-            order_samples[j].append(power)
+            a = np.clip(np.round(flo[rows] / df).astype(int), 0, nf - 1)
+            b = np.clip(np.round(fhi[rows] / df).astype(int) + 1, 1, nf)
+            blo = np.clip(np.round((flo[rows] - side) / df).astype(int), 0, nf - 1)
+            bhi = np.clip(np.round((fhi[rows] + side) / df).astype(int) + 1, 1, nf)
+            line, band = _window_sums(total, rows, blo, a, b, bhi)
+            nside = np.maximum((bhi - blo) - (b - a), 1)
+            out[rows, j] = np.maximum(line - (band - line) / nside * (b - a), 0.0) * df
+        return out
+
+    def line_mask(total: np.ndarray, lo: np.ndarray, hi: np.ndarray,
+                  spread: np.ndarray) -> np.ndarray:
+        """1.0 where a frequency of the band is clear of every order line, else 0.0.
+
+        Each line is masked over its main lobe and as far out as its Hann side
+        lobes stand above the spectrum around it: the side lobes fall from
+        −31.5 dB at 2.5 bins by about 18 dB per octave (Harris, Proc. IEEE 66
+        (1978) 51–83, Table 1), so a line r dB above its surroundings is masked
+        to 2.5 · 2^((r − 31.5)/18) resolution bins (2 to 12) on each side.
+        """
+        band: slice = state["band"]
+        df, line_hw = state["df"], state["line_hw"]
+        res = line_hw / 2.0
+        nseg, nf = total.shape
+        f = np.arange(band.start, band.stop) * df
+        keep = np.ones((nseg, f.size))
+        rows = np.arange(nseg)
+        reach = int(round(12 * res / df))
+        for k in mask_orders:
+            flo, fhi = _line_bounds(k, lo, hi, spread, line_hw, df)
+            live = np.isfinite(flo) & (flo < f[-1]) & (fhi > f[0])
+            if not live.any():
+                continue
+            # the line's top and the median level around it, per segment (rows
+            # without a rate, NaN, are left unmasked)
+            mid = np.nan_to_num(0.5 * (flo + fhi) / df)
+            width = np.nan_to_num(0.5 * (fhi - flo) / df)
+            c = np.clip(np.round(mid).astype(int), 0, nf - 1)
+            half = np.clip(np.round(width).astype(int), 1, nf)
+            offs = np.arange(-reach - int(half.max()), reach + int(half.max()) + 1)
+            idx = np.clip(c[:, None] + offs[None, :], 0, nf - 1)
+            vals = total[rows[:, None], idx]
+            inside = np.abs(offs)[None, :] <= half[:, None]
+            top = np.where(inside, vals, 0.0).max(axis=1)
+            around = np.median(vals, axis=1)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                r_db = 10.0 * np.log10(np.where(around > 0, top / around, 1.0))
+            d_res = np.clip(2.5 * 2.0 ** ((np.nan_to_num(r_db) - 31.5) / 18.0), 2.0, 12.0)
+            extra = (d_res - 2.0) * res
+            a = np.searchsorted(f, flo - extra)
+            b = np.searchsorted(f, fhi + extra, side="right")
+            for r in np.flatnonzero(live & (b > a)):
+                keep[r, a[r]:b[r]] = 0.0
+        return keep
 
     for block in recording.blocks():
         for run in cond.feed(block):
             if "fs" not in state:
                 setup(cond.sample_rate_hz)  # type: ignore[arg-type]
-            if recording.has_rotor:
-                aux_v = run.rotor_hz
-            else:
-                aux_v = run.throttle
+            thr = None
+            if run.throttle is not None:
+                thr = run.throttle
                 if throttle_scale[0] is None:
-                    if np.nanmax(aux_v) > 1.5:
+                    if np.nanmax(thr) > 1.5:
                         throttle_scale[0] = 0.01
                         warnings.append("the throttle column reads above 1.5; taken as percent")
                     else:
                         throttle_scale[0] = 1.0
-                aux_v = aux_v * throttle_scale[0]
-            aux = np.column_stack([aux_v, aux_v * aux_v])
-            stream: SegmentStream = state["stream"]  # type: ignore[assignment]
+                thr = thr * throttle_scale[0]
+                occupancy.add(thr)
+            aux_v = run.rotor_hz if recording.has_rotor else thr
+            if aux_v is None:  # the plan made sure one of the two is there
+                continue
+            if recording.has_rotor and not recording.has_throttle:
+                occupancy.add(aux_v)
+            cols = [aux_v, aux_v * aux_v]
+            if recording.has_rotor and run.rotor_each_hz is not None:
+                cols += list(run.rotor_each_hz.T)
+            aux = np.column_stack(cols)
+            stream: SegmentStream = state["stream"]
             for segs in stream.feed(run.run, run.signals, aux):
-                value, spread, is_rotor = key_of(segs.aux_mean)
+                value, spread, lo, hi, is_rotor = key_of(segs.aux_mean)
                 live = value > (1.0 if is_rotor else 0.02)
                 if not live.any():
                     continue
-                psd = segs.psd if live.all() else segs.psd[live]
-                bins.add(value[live], psd[:, :, state["band"]])
+                if not live.all():
+                    psd = segs.psd[live]
+                    value, spread, lo, hi = value[live], spread[live], lo[live], hi[live]
+                else:
+                    psd = segs.psd
+                band_psd = psd[:, :, state["band"]]
+                nseg = psd.shape[0]
+                est = np.full(nseg, np.nan)
                 if is_rotor:
-                    measure_orders(psd, value[live], spread[live])
+                    df = state["df"]
+                    top = min(psd.shape[2], int(USABLE_BAND * state["fs"] / df) + 2)
+                    total = psd[:, :, :top].sum(axis=1)
+                    keep = line_mask(total, lo, hi, spread)
+                    powers.append(line_power(total, lo, hi, spread))
+                    rotor_seg.append(value)
+                    if predicted:
+                        e, h = _harmonic_rate(total, df, value, est_orders,
+                                              settings.min_frequency_hz, USABLE_BAND * state["fs"])
+                        good = h >= 2
+                        est = np.where(good, e, np.nan)
+                        ratio = np.where(good, e / value, np.nan)
+                        elo, ehi = lo * ratio, hi * ratio
+                        pe = line_power(total, elo, ehi, spread * np.where(good, ratio, 1.0))
+                        powers_est.append(pe)
+                        hits_seg.append(h)
+                        keep *= np.where(good[:, None], line_mask(total, elo, ehi, spread), 1.0)
+                    est_seg.append(est)
+                else:
+                    keep = np.ones((nseg, band_psd.shape[2]))
+                bins.add(value, band_psd, keep, est)
         if progress is not None:
             progress(block.first_row + block.signals.shape[0], recording.rows_estimate)
     findings = cond.finish()
     if "fs" not in state:
         require_duration(recording.path, findings.duration_s, 1.0, "a flight analysis")
-    stream: SegmentStream = state["stream"]  # type: ignore[assignment]
-    samples = [np.concatenate(parts) if parts else np.zeros(0) for parts in order_samples]
-    return StreamedFlight(float(state["fs"]), int(state["nper"]), stream.nfft,
-                          state["band"], bins.sums, bins.counts, bins.values,  # type: ignore[arg-type]
-                          samples, findings, warnings)
+    stream = state["stream"]
+    n_ord = order_arr.size
+
+    def cat(parts: list[np.ndarray], shape: tuple[int, ...]) -> np.ndarray:
+        return np.concatenate(parts) if parts else np.zeros(shape)
+
+    return StreamedFlight(
+        float(state["fs"]), int(state["nper"]), stream.nfft, state["band"], bins.sums,
+        bins.counts, bins.values, bins.masked, bins.kept, bins.estimates, bins.estimated,
+        cat(powers, (0, n_ord)), cat(powers_est, (0, n_ord)), cat(rotor_seg, (0,)),
+        cat(est_seg, (0,)), cat(hits_seg, (0,)).astype(int), occupancy.result(), findings,
+        warnings)
 
 
 def _window_sums(total: np.ndarray, rows: np.ndarray, blo: np.ndarray, lo: np.ndarray,
@@ -458,9 +758,37 @@ def _window_sums(total: np.ndarray, rows: np.ndarray, blo: np.ndarray, lo: np.nd
     return vals.sum(axis=1), band
 
 
+def _rotor_check(streamed: StreamedFlight, warnings: list[str]) -> bool:
+    """Do the measured lines disagree with the drive model's rotor rate?
+
+    Compares, over the segments where the harmonic sum found at least two
+    lines, the estimated rotor rate with the predicted one.  Returns True (and
+    says so) when the median relative difference exceeds :data:`DRIVE_TOLERANCE`.
+    """
+    good = np.isfinite(streamed.rotor_est_hz)
+    if streamed.rotor_est_hz.size == 0 or good.sum() < max(4, 0.3 * good.size):
+        if streamed.rotor_est_hz.size:
+            warnings.append("the drive model's rotor rate could not be checked against the "
+                            "log: too few order lines stood out of the spectrum")
+        return False
+    ratio = streamed.rotor_est_hz[good] / streamed.rotor_hz[good]
+    off = float(np.median(ratio)) - 1.0
+    far = float(np.mean(np.abs(ratio - 1.0) > DRIVE_TOLERANCE))
+    if abs(off) <= DRIVE_TOLERANCE and far < 0.5:
+        return False
+    warnings.append(
+        f"the order lines sit {100 * off:+.0f} % (median) from where the drive model puts "
+        f"them ({100 * far:.0f} % of the time beyond the {100 * DRIVE_TOLERANCE:.0f} % "
+        "tolerance); the rotor rate was estimated from the log itself (harmonic summation "
+        "of its order lines, segment by segment) and used instead")
+    return True
+
+
 def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
             streamed: StreamedFlight) -> ModesResult:
     """The peak analysis of :func:`analyse_flight` on the streamed totals (uses scipy)."""
+    import warnings as _pywarnings
+
     findings = streamed.findings
     warnings = list(findings.warnings) + list(streamed.warnings)
     fs, nper = streamed.sample_rate_hz, streamed.nperseg
@@ -474,6 +802,9 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
             recording.path, total * nper / 2 / fs, need,
             f"a resolution of {fs / nper:.3g} Hz with {MIN_SEGMENTS} half-overlapping averages "
             "(with rotor turning)")
+    use_estimate = False
+    if rotor_known and not recording.has_rotor:
+        use_estimate = _rotor_check(streamed, warnings)
     keys = sorted(streamed.counts)
     # bins with a handful of segments (passing through on a throttle change) are too
     # noisy to vote in the median
@@ -481,6 +812,12 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
     least = max(2.0, 0.25 * typical)
     populated = [k for k in keys if streamed.counts[k] >= least] or keys
     values = np.array([streamed.values[k] / streamed.counts[k] for k in populated])
+    if use_estimate:
+        ratio = np.nanmedian(streamed.rotor_est_hz / np.where(streamed.rotor_hz > 0,
+                                                              streamed.rotor_hz, np.nan))
+        values = np.array([streamed.estimates[k] / streamed.estimated[k]
+                           if streamed.estimated.get(k) else v * ratio
+                           for k, v in zip(populated, values)])
     counts = np.array([streamed.counts[k] for k in populated])
     unit = "Hz rotor rate" if rotor_known else "throttle"
     if len(populated) < MIN_BINS:
@@ -490,13 +827,43 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
             "range of throttle")
     band_sl = streamed.band
     freq = np.fft.rfftfreq(streamed.nfft, 1.0 / fs)[band_sl]
-    per_bin = np.stack([streamed.sums[k] / streamed.counts[k] for k in populated])  # (bins, ch, f)
-    # one level per bin, common to the axes, so the axes keep their relative levels
-    level = np.median(per_bin.sum(axis=1, keepdims=True), axis=2, keepdims=True)
-    level[level <= 0] = 1.0
-    normed = per_bin / level
-    stationary = np.median(normed, axis=0)  # (ch, f)
-    k_eff = max(1.0, 0.64 * float(np.sum(counts)))
+    whole = np.stack([streamed.sums[k] / streamed.counts[k] for k in populated])  # (bins, ch, f)
+    kept = np.stack([streamed.kept[k] for k in populated])  # (bins, f)
+    counts_all = np.array([streamed.counts[k] for k in populated], dtype=float)
+    masked = np.stack([streamed.masked[k] for k in populated])
+    # a frequency counts in a bin only where most of the bin's segments kept it (a
+    # mean of a few periodograms would put noise spikes into the median)
+    enough = kept >= np.maximum(2.0, MIN_KEPT * counts_all[:, None])
+    with np.errstate(invalid="ignore", divide="ignore"):
+        per_bin = np.where(enough[:, None, :], masked / kept[:, None, :], np.nan)
+    # one level per bin, common to the axes, so the axes keep their relative levels;
+    # read where the order lines are masked (their leakage and sweeps would set it)
+    level = np.median(whole.sum(axis=1, keepdims=True), axis=2, keepdims=True)
+    summed = per_bin.sum(axis=1)
+    for i in range(summed.shape[0]):
+        clear = summed[i][np.isfinite(summed[i])]
+        if clear.size >= 0.2 * summed.shape[1]:
+            level[i, 0, 0] = np.median(clear)
+    level[~(level > 0)] = 1.0
+    with _pywarnings.catch_warnings():  # a frequency masked in every bin: filled below
+        _pywarnings.simplefilter("ignore", RuntimeWarning)
+        # the bins vote on different frequencies (each masks its own lines), so their
+        # levels must agree: each bin's level is refined to its median ratio to the
+        # consensus (twice; a robust alignment of the bins' gains)
+        for _ in range(2):
+            consensus = np.nanmedian(per_bin / level, axis=0).sum(axis=0)  # (f,)
+            for i in range(summed.shape[0]):
+                ratio = summed[i] / consensus
+                ratio = ratio[np.isfinite(ratio) & (ratio > 0)]
+                if ratio.size >= 0.2 * summed.shape[1]:
+                    level[i, 0, 0] = np.median(ratio)
+        normed = per_bin / level
+        stationary = np.nanmedian(normed, axis=0)  # (ch, f)
+    normed_whole = whole / level
+    gap = ~np.isfinite(stationary)
+    if gap.any():
+        stationary[gap] = np.median(normed_whole, axis=0)[gap]
+    normed_any = np.where(np.isfinite(normed), normed, normed_whole)
     window = hann_periodic(nper)
     full_model = stationary_model(fs, window, streamed.nfft)
 
@@ -504,20 +871,28 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
         return full_model(fn, z)[band_sl]
 
     df = freq[1] - freq[0]
-    # relative standard error of the median spectrum: each bin's mean of n Welch
-    # periodograms varies by about 1/sqrt(n); the median of N such bins by
-    # 1.2533/sqrt(N) times that (asymptotic efficiency of the median; derived)
-    rel_err = 1.2533 * float(np.median(1.0 / np.sqrt(counts))) / math.sqrt(len(counts))
+    # relative standard error of the stationary spectrum, measured on it: the
+    # spread of its ratio to a running median over 31 bins (a peak or two move
+    # the median absolute deviation little; 1.4826 × MAD estimates σ for normal
+    # errors)
+    from scipy.ndimage import median_filter
+
+    smooth = median_filter(stationary, size=(1, 31), mode="nearest")
+    with np.errstate(invalid="ignore", divide="ignore"):
+        dev = stationary / np.where(smooth > 0, smooth, np.nan) - 1.0
+    dev = dev[np.isfinite(dev)]
+    rel_err = 1.4826 * float(np.median(np.abs(dev - np.median(dev)))) if dev.size else 1.0
     cands = []
     for ch in range(nch):
         spec = stationary[ch]
         floor = noise_floor(freq, spec)
         for pk in find_modes_peaks(freq, spec, settings.snr_db, settings.prominence_db,
                                    4 * df, settings.max_modes * 2, floor):
-            rise = 1.0 - 10.0 ** (-pk.prominence_db / 10.0)  # (peak − base)/peak
-            if rise < SIGNIFICANCE * rel_err:
-                continue  # a ripple that the spread of the median spectrum can make
-            reason = _order_like(pk.freq_hz, values, counts, normed[:, ch, :], freq, df,
+            # a ripple that the spread of the stationary spectrum can make: the
+            # prominence against the spectrum's own scatter, in dB
+            if pk.prominence_db < SIGNIFICANCE * 10.0 * math.log10(1.0 + rel_err):
+                continue
+            reason = _order_like(pk.freq_hz, values, counts, normed_any[:, ch, :], freq, df,
                                  floor[pk.index], rotor_known)
             if reason:
                 warnings.append(f"peak at {pk.freq_hz:.1f} Hz on {axes[ch]} {reason}; "
@@ -528,25 +903,67 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
                 continue
             cands.append((ch, pk, raw, float(spec[pk.index])))
 
-    def corrected(ch: int, pk) -> tuple | None:
-        """Window-corrected damping and refined frequency, on one axis's spectrum."""
+    oversample = streamed.nfft / nper
+
+    def estimate(ch: int, pk: Any) -> tuple[Any, Any, float, float] | None:
+        """Window-corrected half-power figure, band fit, frequency and clear share, on one axis.
+
+        The fit runs on the median of only those rotor-rate bins that kept the
+        peak's core (its half-power band) at least three-quarters clear of order
+        lines, so the peak's shape is not pieced together from different bins.
+        The clear share is the part of the recording's segments in those bins.
+        """
         spec = stationary[ch]
-        hp = corrected_half_power(freq, spec, pk.index, model, rel_error=1 / math.sqrt(k_eff))
+        hp = corrected_half_power(freq, spec, pk.index, model, rel_error=rel_err)
         if hp is None:
             return None
         fn = hp.peak_hz
+        fit = None
+        # the peak's core: its half-power band, at least two resolution bins each side
+        z0 = hp.damping if hp.damping is not None else 0.0
+        half = max(z0 * fn, 4 * df)
+        near = (freq >= fn - half) & (freq <= fn + half)
+        whole = enough[:, near].mean(axis=1) >= 0.75 if near.any() else np.ones(len(counts_all), bool)
+        share = float(counts_all[whole].sum() / counts_all.sum())
+        if whole.sum() >= 3 and not whole.all():
+            with _pywarnings.catch_warnings():
+                _pywarnings.simplefilter("ignore", RuntimeWarning)
+                local = np.nanmedian(normed[whole, ch, :], axis=0)
+            spec = np.where(np.isfinite(local), local, spec)
+            hp_local = corrected_half_power(freq, spec, pk.index, model, rel_error=rel_err)
+            if hp_local is not None:
+                hp = hp_local
+                fn = hp.peak_hz
         if hp.damping is not None:
-            fn = refine_frequency(freq, spec, hp.peak_hz, hp.damping, model)
-        return hp, fn
+            fit = fit_band(freq, spec, hp.peak_hz, hp.damping, model, oversample, LEVEL)
+            # the frequency from the model's peak shape (the band fit's slope term can
+            # trade against fₙ on a broad peak)
+            fn = refine_frequency(freq, spec, hp.peak_hz,
+                                  fit.damping if fit is not None else hp.damping, model)
+        return hp, fit, fn, share
 
-    modes = _merge_axes(cands, axes, fs / nper, settings.max_modes, corrected)
-    orders = _orders(order_list, streamed.order_samples, families, rotor_known, warnings)
+    modes = _merge_axes(cands, axes, fs / nper, settings.max_modes, estimate, stationary, freq)
+    kept_modes = tuple(m for m in modes if m.confidence >= CONFIDENCE_FLOOR)
+    weak = tuple(m for m in modes if m.confidence < CONFIDENCE_FLOOR)
+    kept_modes = tuple(replace(m, name=f"mode {i + 1}") for i, m in enumerate(kept_modes))
+    weak = tuple(replace(m, name=f"candidate {i + 1}") for i, m in enumerate(weak))
+    if weak:
+        warnings.append(
+            f"{len(weak)} peak(s) below the confidence floor {CONFIDENCE_FLOOR:g} are listed as "
+            "candidates and kept out of the modes: "
+            + ", ".join(f"{m.frequency_hz:.1f} Hz ({m.confidence:.2f})" for m in weak))
+    power = streamed.order_power_est if use_estimate else streamed.order_power
+    orders = _orders(order_list, power, families, rotor_known, warnings)
+    rotor_words = ("rotor rate estimated from the log" if use_estimate else
+                   "rotor rate" if rotor_known else "throttle")
     return ModesResult(
         recording=os.path.basename(recording.path), kind="flight",
-        method="flight: Welch spectra binned by " + ("rotor rate" if rotor_known else "throttle")
-        + "; median across bins; half-power (window-corrected)",
+        method="flight: Welch spectra binned by " + rotor_words
+        + ("; order lines masked" if rotor_known else "")
+        + "; median across bins; SDOF fit over the peak's band",
         sample_rate_hz=fs, duration_s=findings.duration_s, resolution_hz=fs / nper,
-        modes=modes, orders=orders, warnings=tuple(dict.fromkeys(warnings)), averages=int(total),
+        modes=kept_modes, orders=orders, warnings=tuple(dict.fromkeys(warnings)),
+        averages=int(total), candidates=weak, dwell=streamed.dwell,
     )
 
 
@@ -558,10 +975,13 @@ def _order_like(f0: float, values: np.ndarray, counts: np.ndarray, normed: np.nd
         k = np.maximum(np.round(ratio), 1.0)
         tol = np.maximum(3 * df, 0.015 * f0)
         on_line = np.abs(f0 - k * values) <= tol
-        share = float(np.sum(counts[on_line]) / np.sum(counts))
+        # one vote per rotor-rate bin, not per second: a line that dwells on a mode at
+        # hover is masked there, and the other bins show the mode on its own
+        share = float(np.mean(on_line))
         if share > 0.5 and len(values) >= 1:
             common = int(np.bincount(k[on_line].astype(int)).argmax())
-            return f"sits on order {common} of the rotor rate in {100 * share:.0f} % of the time"
+            return (f"sits on order {common} of the rotor rate in {100 * share:.0f} % of the "
+                    "rotor-rate bins")
     # a mode stands out of its surroundings in most bins; an order line at one
     # frequency does so in few
     i = int(np.argmin(np.abs(freq - f0)))
@@ -586,12 +1006,16 @@ def _order_like(f0: float, values: np.ndarray, counts: np.ndarray, normed: np.nd
     return ""
 
 
-def _merge_axes(cands, axes, resolution_hz: float, max_modes: int,
-                corrected) -> tuple[MeasuredMode, ...]:
+def _merge_axes(cands: list, axes: tuple[str, ...], resolution_hz: float, max_modes: int,
+                estimate: Callable, stationary: np.ndarray,
+                freq: np.ndarray) -> tuple[MeasuredMode, ...]:
     """One mode per frequency: the axis where it stands highest; 'any' if level on all.
 
     Peaks are grouped across axes first (by their raw half-power width), so the
-    window-corrected estimate runs once per mode, on the axis with the highest peak.
+    damping estimate runs once per mode, on the axis with the clearest peak.
+    The axis is named from the peak's height above each axis's own floor
+    beside it, not from the raw level, so a filter's slope across the band
+    (which scales all axes alike) cannot move it.
     """
     cands = sorted(cands, key=lambda c: -c[1].snr_db)
     groups: list[list] = []
@@ -605,63 +1029,123 @@ def _merge_axes(cands, axes, resolution_hz: float, max_modes: int,
                 break
         else:
             groups.append([c])
-    out = []
+    out: list[dict[str, Any]] = []
     for g in groups:
         if len(out) >= max_modes:
             break
         # estimate on the axis where the peak stands clearest of its floor ...
         for ch, pk, _raw, _top in sorted(g, key=lambda c: -c[1].snr_db):
-            got = corrected(ch, pk)
+            got = estimate(ch, pk)
             if got is not None:
                 break
         else:
             continue
-        hp, fn = got
-        # ... and name the axis where it is strongest ('any' when all are within 3 dB)
-        best = max(g, key=lambda c: c[3])
-        axis = axes[best[0]]
-        if len({c[0] for c in g}) == len(axes) and len(axes) > 1 and all(
-                best[3] <= 2.0 * c[3] for c in g):
+        hp, fit, fn, clear = got
+        # ... and name the axis where the mode's own response is strongest: the
+        # peak's rise above each axis's spectrum beside it ('any' when all are
+        # within a factor 2)
+        rise = _rises(stationary, freq, fn, hp.raw)
+        best = int(np.argmax(rise))
+        axis = axes[best]
+        if len(axes) > 1 and np.all(rise[best] <= 2.0 * rise) and np.all(rise > 0):
             axis = "any"
-        zeta = hp.damping
-        conf = min(max((pk.snr_db - 4.0) / 20.0, 0.0), 1.0) * (0.7 if hp.bound_only else 1.0)
-        if zeta is not None:
-            method = (f"half-power (window-corrected) on the {axes[ch]} spectrum, median over "
-                      "rotor-rate bins")
+        base_conf = min(max((pk.snr_db - 4.0) / 12.0, 0.0), 1.0)
+        if hp.bound_only:
+            # narrower than the resolution: a frame mode under broadband forcing is
+            # rarely that lightly damped; a steady tone (fan, supply line) is
+            zeta, low, high = None, 0.0, min(hp.damping_high, 0.99)
+            conf = min(base_conf * 0.7, BOUND_CONFIDENCE)
+            method = (f"peak narrower than the {resolution_hz:.3g} Hz resolution, "
+                      f"ζ < {high:.4f}: a steady tone or a very lightly damped mode")
+            zhp = None
+        elif fit is not None:
+            zeta, low, high = fit.damping, fit.damping_low, fit.damping_high
+            conf = base_conf * (1.0 if fit.log_se < 0.25 else 0.75 if fit.log_se < 0.5 else 0.4)
+            method = (f"SDOF fit over {fit.bins} bins of the {axes[ch]} spectrum (order lines "
+                      f"masked, median over rotor-rate bins); interval {100 * LEVEL:.0f} %")
+            zhp = hp.damping
+            # a fit that its own half-power reading contradicts by a factor 2 is not trusted
+            if hp.damping and not 0.5 <= fit.damping / hp.damping <= 2.0:
+                conf *= 0.5
+                low, high = min(low, hp.damping), max(high, hp.damping)
         else:
-            method = (f"half-power: peak narrower than the {resolution_hz:.3g} Hz resolution, "
-                      f"ζ < {hp.damping_high:.4f}")
-        out.append(dict(frequency_hz=fn, damping=zeta, damping_low=hp.damping_low,
-                        damping_high=min(hp.damping_high, 0.99), axis=axis,
-                        confidence=round(conf, 3), method=method, damping_half_power=zeta,
+            zeta, low, high = hp.damping, hp.damping_low, hp.damping_high
+            conf = base_conf * 0.6
+            method = f"half-power (window-corrected) on the {axes[ch]} spectrum; band fit failed"
+            zhp = hp.damping
+        if clear < MIN_CLEAR:
+            # order lines covered the mode for most of the recording: what is left is
+            # too little to stand on
+            conf *= clear / MIN_CLEAR * 0.5
+            method += (f"; order lines covered this mode {100 * (1 - clear):.0f} % of the time")
+        out.append(dict(frequency_hz=fn, damping=zeta, damping_low=low,
+                        damping_high=min(high, 0.99), axis=axis,
+                        confidence=round(conf, 3), method=method, damping_half_power=zhp,
                         damping_decay=None, prominence_db=round(pk.snr_db, 2)))
     out.sort(key=lambda m: m["frequency_hz"])
     return tuple(MeasuredMode(name=f"mode {i + 1}", **m) for i, m in enumerate(out))
 
 
-def _orders(order_list, samples, families, rotor_known, warnings) -> tuple[OrderStrength, ...]:
-    """Relative order strengths: RMS line amplitude, median over segments.
+def _rises(stationary: np.ndarray, freq: np.ndarray, fn: float, raw_zeta: float) -> np.ndarray:
+    """Each axis's peak height at ``fn`` above its own level beside the peak."""
+    df = freq[1] - freq[0]
+    i = int(np.argmin(np.abs(freq - fn)))
+    w = max(2, int(round(fn * max(raw_zeta, 0.002) / df)))
+    top = stationary[:, max(0, i - w // 2):i + w // 2 + 1].max(axis=1)
+    ring = max(4 * w, 6)
+    left = stationary[:, max(0, i - 2 * ring):max(1, i - ring)]
+    right = stationary[:, i + ring:i + 2 * ring]
+    sides = [np.median(p, axis=1) for p in (left, right) if p.shape[1]]
+    base = np.min(np.stack(sides), axis=0) if sides else np.zeros(stationary.shape[0])
+    return np.maximum(top - base, 0.0)
 
-    The median keeps the segments where a line crosses a frame mode (and is
-    amplified by it) from deciding the order's weight.
+
+def _orders(order_list: list[float], power: np.ndarray, families: dict[float, str],
+            rotor_known: bool, warnings: list[str]) -> tuple[OrderStrength, ...]:
+    """Relative order strengths, each order compared with a reference at the same moments.
+
+    The reference is the order readable in the most segments (the strongest
+    of those, on a tie).  Every other order is compared with it over the
+    segments where both are readable: its strength is the square root of the
+    ratio of the two median line powers over those segments.  So a high order
+    that leaves the band at high throttle is compared with the reference at low
+    throttle only, and the reference is not judged at other moments.  The
+    median keeps the segments where a line crosses a frame mode (and is
+    amplified by it, or sits on its peak) from deciding the order's weight.
+    Strengths are then scaled so the strongest is 1.
     """
     if not rotor_known:
         return ()
-    amps, counts = {}, {}
-    for k, vals in zip(order_list, samples):
-        if vals.size == 0:
-            warnings.append(f"order {k:g} ({families[k]}) was never inside the analysed band "
-                            "while the rotor rate held steady; not measured")
-            continue
-        amps[k] = math.sqrt(float(np.median(vals)))
-        counts[k] = int(vals.size)
-    if not amps:
+    ok = np.isfinite(power)
+    cover = ok.sum(axis=0) if power.size else np.zeros(len(order_list), dtype=int)
+    if not cover.size or cover.max() == 0:
+        warnings.append("no order line was inside the analysed band while the rotor rate held "
+                        "steady; order strengths not measured")
         return ()
-    top = max(amps.values())
-    if top <= 0:
+    best = np.flatnonzero(cover == cover.max())
+    ref = int(max(best, key=lambda j: float(np.median(power[ok[:, j], j]))))
+    amps: dict[float, float] = {}
+    used: dict[float, int] = {}
+    for j, k in enumerate(order_list):
+        both = ok[:, j] & ok[:, ref]
+        if both.sum() < MIN_ORDER_SEGMENTS:
+            if cover[j] == 0:
+                warnings.append(f"order {k:g} ({families[k]}) was never inside the analysed band "
+                                "while the rotor rate held steady; not measured")
+            else:
+                warnings.append(f"order {k:g} ({families[k]}) was readable together with order "
+                                f"{order_list[ref]:g} in only {int(both.sum())} segments; not "
+                                "measured")
+            continue
+        p_ref = float(np.median(power[both, ref]))
+        p_j = float(np.median(power[both, j]))
+        amps[k] = math.sqrt(max(p_j, 0.0) / p_ref) if p_ref > 0 else 0.0
+        used[k] = int(both.sum())
+    if not amps or max(amps.values()) <= 0:
         warnings.append("no order line stood above the background")
         return ()
-    out = [OrderStrength(float(k), families[k], round(a / top, 4), counts[k])
+    top = max(amps.values())
+    out = [OrderStrength(float(k), families[k], round(a / top, 4), used[k])
            for k, a in amps.items()]
     out.sort(key=lambda o: -o.relative_strength)
     return tuple(out)

@@ -103,6 +103,9 @@ class Block:
     throttle: np.ndarray | None = None
     #: Rotor rate [Hz] averaged over the rotor-rate columns, or ``None``.
     rotor_hz: np.ndarray | None = None
+    #: Rotor rate [Hz] of each motor, shape (rows, motors), when two or more
+    #: rotor-rate columns are read; else ``None``.
+    rotor_each_hz: np.ndarray | None = None
 
 
 @dataclass
@@ -153,7 +156,7 @@ class Recording:
             return None if vals[0] is None else np.concatenate(vals)
 
         return Block(0, cat("time_s"), np.concatenate([p.signals for p in parts]),
-                     cat("throttle"), cat("rotor_hz"))
+                     cat("throttle"), cat("rotor_hz"), cat("rotor_each_hz"))
 
 
 #: Blocks parsed ahead by the background reader.
@@ -330,10 +333,12 @@ def _split(arr: np.ndarray, first_row: int, tcol, sig, thr, rpm, columns: Column
     """Turn a (rows, used columns) array into a Block; columns in ``order``."""
     time_s = None if tcol is None else arr[:, tcol] * columns.time_scale_s
     throttle = None if thr is None else arr[:, thr]
-    rotor = None
+    rotor = each = None
     if rpm:
         rotor = arr[:, rpm].mean(axis=1) * columns.rpm_scale_hz
-    return Block(first_row, time_s, np.ascontiguousarray(arr[:, sig]), throttle, rotor)
+        if len(rpm) > 1:
+            each = arr[:, rpm] * columns.rpm_scale_hz
+    return Block(first_row, time_s, np.ascontiguousarray(arr[:, sig]), throttle, rotor, each)
 
 
 def _open_csv(path: str, columns: Columns) -> Recording:
@@ -605,10 +610,13 @@ def _open_npy(path: str, columns: Columns) -> Recording:
             sigs = np.column_stack([get(rows, i) for i in sig])
             time_s = None if tcol is None else get(rows, tcol) * columns.time_scale_s
             throttle = None if thr is None else get(rows, thr)
-            rotor = None
+            rotor = each = None
             if rpm:
-                rotor = np.mean([get(rows, i) for i in rpm], axis=0) * columns.rpm_scale_hz
-            yield Block(start, time_s, sigs, throttle, rotor)
+                each = np.column_stack([get(rows, i) for i in rpm]) * columns.rpm_scale_hz
+                rotor = each.mean(axis=1)
+                if len(rpm) == 1:
+                    each = None
+            yield Block(start, time_s, sigs, throttle, rotor, each)
 
     return Recording(path, "npy", tuple(sig_names), columns.sample_rate_hz, None, nrows,
                      thr is not None, bool(rpm), blocks, columns)

@@ -8,18 +8,15 @@ from dataclasses import dataclass
 from ..errors import InputError
 from ..model.modes import MODE_AXES
 
-__all__ = ["MeasuredMode", "OrderStrength", "ModesResult", "ORDER_FAMILIES", "KINDS",
-           "CONFIDENCE_FLOOR"]
+__all__ = ["MeasuredMode", "OrderStrength", "ModesResult", "Dwell", "ORDER_FAMILIES", "KINDS",
+           "DWELL_QUANTITIES"]
 
 #: Families an order strength can carry (``custom`` when the family is not known).
 ORDER_FAMILIES = ("rotor", "blade", "electrical", "commutation", "cogging", "custom")
 #: Kinds of recording.
 KINDS = ("tap", "flight")
-#: Modes whose confidence is below this floor are not written to the modes
-#: file: they are listed as candidates (``ModesResult.candidates``) unless the
-#: analysis is asked to include them (``include_candidates``).  At 0.3 a tap-test
-#: peak needs about 14 dB over the noise with agreeing damping estimates.
-CONFIDENCE_FLOOR = 0.3
+#: What a measured dwell is counted over: throttle (fraction 0–1) or rotor rate [Hz].
+DWELL_QUANTITIES = ("throttle", "rotor_hz")
 
 
 @dataclass(frozen=True)
@@ -85,6 +82,29 @@ class OrderStrength:
 
 
 @dataclass(frozen=True)
+class Dwell:
+    """Where a flight spent its time: the share of time per throttle (or rotor-rate) band."""
+
+    #: ``"throttle"`` (band edges are fractions 0–1) or ``"rotor_hz"`` (edges in Hz).
+    quantity: str
+    #: Band edges, ascending (one more than ``share``).
+    edges: tuple[float, ...]
+    #: Share of the recording's time in each band; sums to 1.
+    share: tuple[float, ...]
+
+    def __post_init__(self) -> None:
+        if self.quantity not in DWELL_QUANTITIES:
+            raise InputError("dwell.quantity", "one of " + ", ".join(DWELL_QUANTITIES),
+                             self.quantity)
+        if len(self.edges) != len(self.share) + 1 or not self.share:
+            raise InputError("dwell.edges", "one more edge than shares", len(self.edges))
+        if any(b <= a for a, b in zip(self.edges, self.edges[1:])):
+            raise InputError("dwell.edges", "ascending band edges", self.edges)
+        if any(s < 0 for s in self.share) or not math.isclose(sum(self.share), 1.0, abs_tol=1e-6):
+            raise InputError("dwell.share", "shares of time ≥ 0 summing to 1", self.share)
+
+
+@dataclass(frozen=True)
 class ModesResult:
     """Everything an analysis found in one recording."""
 
@@ -108,12 +128,13 @@ class ModesResult:
     warnings: tuple[str, ...] = ()
     #: Number of impacts averaged (tap) or spectral segments used (flight).
     averages: int = 0
-    #: Weak or doubtful peaks kept out of ``modes`` (confidence below
-    #: :data:`CONFIDENCE_FLOOR`, or flagged), by frequency; never written to a modes file.
+    #: Peaks below the confidence floor: listed, but kept out of the modes by default.
     candidates: tuple[MeasuredMode, ...] = ()
+    #: Measured occupancy of a flight recording (throttle or rotor-rate bands), if known.
+    dwell: Dwell | None = None
     #: Onset of each impact used (tap tests) [s from the start of the analysed stretch].
     impact_times_s: tuple[float, ...] = ()
 
     def __post_init__(self) -> None:
         if self.kind not in KINDS:
-            raise InputError("--kind", "tap or flight", self.kind)
+            raise InputError("kind", "tap or flight", self.kind)

@@ -236,7 +236,7 @@ class SegmentStream:
 
     def _aux_means(self, starts: np.ndarray) -> np.ndarray:
         aux, nseg = self._aux, starts.size
-        if not aux.shape[1]:
+        if aux is None or not aux.shape[1]:
             return np.zeros((0, nseg))
         r, rest = divmod(self.nperseg, self.hop)
         if rest == 0:  # a segment is r whole hops: add the hops' sums (no running sum)

@@ -33,11 +33,11 @@ from .checks import USABLE_BAND, Conditioner, require_duration, require_sample_r
 from .damping import SdofFit, corrected_half_power, sdof_fit, transient_model
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
-from .result import CONFIDENCE_FLOOR, MeasuredMode, ModesResult
+from .result import MeasuredMode, ModesResult
 
 __all__ = ["TapSettings", "analyse_tap", "detect_impacts", "clipped_samples", "stationary_lines",
            "StationaryLine", "bounce_delays", "MAX_SEGMENT_S", "ONSET_RATIO", "MAX_TAP_ROWS",
-           "SIGNIFICANCE"]
+           "SIGNIFICANCE", "CONFIDENCE_FLOOR"]
 
 #: Longest segment used after an impact [s].
 MAX_SEGMENT_S = 8.0
@@ -51,6 +51,10 @@ SIGNIFICANCE = 5.0
 #: Impacts (the strongest) used for the decay fit.
 FIT_IMPACTS = 4
 _PRE_S = 0.002
+#: Peaks below this confidence are candidates, not modes (unless
+#: ``TapSettings.include_candidates``).  At 0.3 a peak needs about 14 dB over
+#: the noise with agreeing damping estimates.
+CONFIDENCE_FLOOR = 0.3
 #: Most steady lines (hum and harmonics, fans) taken from the lead-in.
 MAX_LINES = 60
 
@@ -75,7 +79,7 @@ class TapSettings:
     max_modes: int = 12
     #: Axis written for every mode found.
     axis: str = "any"
-    #: Put candidates (confidence below :data:`.result.CONFIDENCE_FLOOR`, or
+    #: Put candidates (confidence below :data:`CONFIDENCE_FLOOR`, or
     #: flagged as harmonics of clipping or unresolved) among the modes.
     include_candidates: bool = False
 

@@ -145,7 +145,9 @@ def start(kind: str, recording: Any, settings: Any) -> Child | None:
     Parameters
     ----------
     kind : str
-        The pass to run; ``"flight"`` (:func:`~.flight.stream_flight`).
+        The pass to run, as ``"module:function"`` inside this package, e.g.
+        ``"clashcheck.identify.flight:stream_flight"``; it is called as
+        ``function(recording, settings, progress)`` and returns picklable totals.
     recording : Recording
         The opened recording; the child opens its file again with the same columns.
     settings : object
@@ -240,6 +242,21 @@ class Child:
                 raise RuntimeError(f"the streaming process failed:\n{msg[1]}")
 
 
+def _resolve(target: str) -> Callable[..., Any]:
+    """The streaming pass named ``module:function``, inside this package only.
+
+    The worker knows no analysis by import: the caller names its pass, so the
+    analysis modules import this one and never the other way round.
+    """
+    import importlib
+
+    module, _, name = target.partition(":")
+    if not module.startswith(__package__ + ".") or not name.isidentifier():
+        raise ValueError(f"unknown pass {target!r}")
+    found: Callable[..., Any] = getattr(importlib.import_module(module), name)
+    return found
+
+
 def main() -> int:
     """The child's side: read one request from stdin, answer on stdout."""
     out = sys.stdout.buffer
@@ -261,10 +278,8 @@ def main() -> int:
         if not request:  # no request came (the parent ended early)
             return 0
         kind, path, columns, settings = pickle.loads(request)
-        if kind != "flight":
-            raise ValueError(f"unknown pass {kind!r}")
+        stream_pass = _resolve(kind)
         from ..errors import ClashcheckError
-        from .flight import stream_flight
         from .readers import open_recording
     except Exception:
         traceback.print_exc()
@@ -272,7 +287,7 @@ def main() -> int:
     try:
         send(("ready",))
         rec = open_recording(path, columns)
-        totals = stream_flight(rec, settings, lambda done, total: send(("progress", done, total)))
+        totals = stream_pass(rec, settings, lambda done, total: send(("progress", done, total)))
         send(("done", totals))
     except BrokenPipeError:  # the parent stopped listening
         return 0

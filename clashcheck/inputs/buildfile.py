@@ -429,7 +429,8 @@ def load_modes_file(path: str | Path) -> MeasuredModes:
     """
     data = _read_toml(path, "modes file")
     try:
-        f.check_keys(data, ("frame", "order_strengths", "name"), "")
+        # [dwell] (measured throttle occupancy) is read by the verdict rule
+        f.check_keys(data, ("frame", "order_strengths", "name", "dwell"), "")
         frame = f.table(data, "frame", "", required=True)
         assert frame is not None
         f.check_keys(frame, ("modes",), "frame")
