@@ -275,7 +275,9 @@ def stationary_lines(lead: np.ndarray, sample_rate_hz: float, min_frequency_hz: 
     f, p = signal.periodogram(lead, sample_rate_hz, window="hann", axis=0)
     p = p.sum(axis=1)
     df = f[1] - f[0]
-    med = ndimage.median_filter(p, size=max(9, int(20.0 / df) | 1), mode="nearest")
+    # a wide running median (≥ 31 bins, ≥ 60 Hz), so its own scatter does not let
+    # chance bins through
+    med = ndimage.median_filter(p, size=max(31, int(60.0 / df) | 1), mode="nearest")
     tiny = np.finfo(float).tiny
     db = 10.0 * np.log10(np.maximum(p, tiny))
     inband = (f >= 0.8 * min_frequency_hz) & (f <= 1.1 * max_frequency_hz)
