@@ -277,10 +277,15 @@ def stationary_lines(lead: np.ndarray, sample_rate_hz: float, min_frequency_hz: 
     df = f[1] - f[0]
     # a wide running median (≥ 31 bins, ≥ 60 Hz), so its own scatter does not let
     # chance bins through
-    med = ndimage.median_filter(p, size=max(31, int(60.0 / df) | 1), mode="nearest")
+    size = max(31, int(60.0 / df) | 1)
+    # the removed offset leaves a hole at 0 Hz (the window's main lobe): filled for the median
+    filled = p.copy()
+    filled[:3] = np.median(p[3:3 + size])
+    med = ndimage.median_filter(filled, size=size, mode="nearest")
     tiny = np.finfo(float).tiny
     db = 10.0 * np.log10(np.maximum(p, tiny))
-    inband = (f >= 0.8 * min_frequency_hz) & (f <= 1.1 * max_frequency_hz)
+    inband = (f >= 0.8 * min_frequency_hz) & (f <= 1.1 * max_frequency_hz) & (
+        np.arange(len(f)) >= 3)
     # a noise bin of a periodogram exceeds T × its median with probability 2^−T
     # (exponential distribution): T is set so the whole band holds 0.05 chance lines
     chance_db = 10.0 * math.log10(math.log2(max(2, int(inband.sum())) / 0.05))
