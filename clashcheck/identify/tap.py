@@ -729,7 +729,7 @@ def _decay_fits(free: np.ndarray, fs: float, found: list, skip: int,
                 resolution: float, noise_rms: float = 0.0) -> _Fitted:
     """Joint SDOF decay fits of the strongest impacts; close pairs split where the data say so.
 
-    A peak whose half-power and decay-fit dampings differ by more than 1.4×
+    A peak whose half-power and decay-fit dampings differ by 1.2× or more
     is tried as two modes (f ∓ δ); the split is kept when the Bayesian
     information criterion falls by more than 10 (Schwarz 1978) and the two
     fitted modes stay apart from each other and off the search bounds.  A fit
@@ -754,14 +754,14 @@ def _decay_fits(free: np.ndarray, fs: float, found: list, skip: int,
     if clean(first):
         for k, (_pk, hp) in enumerate(found):
             zd, zh = first.dampings[k], hp.damping
-            if zh is None or zd < 1.4 * zh:
+            if zh is None or max(zd, zh) < 1.2 * min(zd, zh):
                 continue
             fk = first.freqs_hz[k]
             delta = max(zd, 1.5 * resolution / fk)
             gf = list(first.freqs_hz)
             gz = list(first.dampings)
             gf[k:k + 1] = [fk * (1 - delta), fk * (1 + delta)]
-            gz[k:k + 1] = [zh, zh]
+            gz[k:k + 1] = [min(zd, zh), min(zd, zh)]
             split = sdof_fit(free[strongest[0]], fs, gf, gz, skip, max_evaluations=60 * len(gf))
             if split is None or first.samples == 0:
                 continue
