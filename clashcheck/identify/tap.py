@@ -731,8 +731,9 @@ def _decay_fits(free: np.ndarray, fs: float, found: list, skip: int,
 
     A peak whose half-power and decay-fit dampings differ by 1.2× or more
     is tried as two modes (f ∓ δ); the split is kept when the Bayesian
-    information criterion falls by more than 10 (Schwarz 1978) and the two
-    fitted modes stay apart from each other and off the search bounds.  A fit
+    information criterion falls by more than 10 (Schwarz 1978), the two
+    fitted modes stay apart from each other and off the search bounds, and
+    each one's ζ lies within 0.25–1.5× the lower of the peak's two readings.  A fit
     counts when it explains 80 % of the response's energy, or when what it
     leaves is no more than the sensor noise (RMS ``noise_rms``, from the lead-in).
     """
@@ -772,7 +773,11 @@ def _decay_fits(free: np.ndarray, fs: float, found: list, skip: int,
             f1, f2 = split.freqs_hz[k], split.freqs_hz[k + 1]
             apart = abs(f2 - f1) > 0.25 * (split.dampings[k] + split.dampings[k + 1]) * fk
             inside = all(abs(f / g - 1) < 0.028 for f, g in zip((f1, f2), gf[k:k + 2]))
-            if bic < -10.0 and apart and inside:
+            # each mode of a true pair is no more damped than the pair's broadened peak
+            # reads, and not far less (a noise-fitting split puts one mode near ζ = 0)
+            ref_z = min(zd, zh)
+            plausible = all(0.25 * ref_z <= z <= 1.5 * ref_z for z in split.dampings[k:k + 2])
+            if bic < -10.0 and apart and inside and plausible:
                 members = [[j] if j < k else [j + 1] for j in range(k)] + [[k, k + 1]] + [
                     [j + 1] for j in range(k + 1, len(found))]
                 guesses_f, guesses_z = list(split.freqs_hz), list(split.dampings)
