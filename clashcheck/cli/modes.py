@@ -163,6 +163,7 @@ FIELD_FLAGS = {
     "min_frequency_hz": "--min-frequency",
     "max_frequency_hz": "--max-frequency",
     "resolution_hz": "--resolution",
+    "include_candidates": "--include-candidates",
     "axes": "--axes",
     "blades": "--blades",
     "poles": "--poles",

@@ -118,6 +118,10 @@ class SdofFit:
     dampings: tuple[float, ...]
     #: Share of the response's energy the fit explains (1 = all).
     r_squared: float
+    #: Samples the fit used (for information criteria).
+    samples: int = 0
+    #: RMS of the fit's residual, in the signal's units.
+    residual_rms: float = 0.0
 
 
 def _peak(freq_hz: np.ndarray, power: np.ndarray, i: int) -> tuple[float, float]:
@@ -605,20 +609,22 @@ def sdof_fit(
 
     def resid(theta: np.ndarray) -> np.ndarray:
         phi = basis(theta)
-        gram = phi.T @ phi
+        # einsum, not a BLAS product: on a busy machine BLAS threads spin and
+        # make each of these small products a hundred times slower
+        gram = np.einsum("ij,ik->jk", phi, phi)
         gram[np.diag_indices_from(gram)] *= 1.0 + 1e-10  # keeps near-equal columns solvable
         try:
-            c = np.linalg.solve(gram, phi.T @ y)
+            c = np.linalg.solve(gram, np.einsum("ij,i->j", phi, y))
         except np.linalg.LinAlgError:
             c, *_ = np.linalg.lstsq(phi, y, rcond=None)
-        return phi @ c - y
+        return np.einsum("ij,j->i", phi, c) - y
 
     theta0 = np.r_[np.log(sig0), wd0]
     lo = np.r_[np.log(1e-4 * wn0), wd0 * 0.97]
     hi = np.r_[np.log(0.5 * wn0), wd0 * 1.03]
     theta0 = np.clip(theta0, lo + 1e-9, hi - 1e-9)
     try:
-        sol = least_squares(resid, theta0, bounds=(lo, hi), x_scale="jac",
+        sol = least_squares(resid, theta0, bounds=(lo, hi), x_scale="jac", tr_solver="lsmr",
                             max_nfev=max_evaluations or 30 * m, xtol=1e-7, ftol=1e-7)
     except (ValueError, np.linalg.LinAlgError):
         return None
@@ -628,7 +634,8 @@ def sdof_fit(
     ss = float(np.dot(y, y))
     r2 = 1.0 - float(np.dot(sol.fun, sol.fun)) / ss if ss > 0 else 0.0
     return SdofFit(tuple(float(w / (2 * math.pi)) for w in wn),
-                   tuple(float(s / w) for s, w in zip(sig, wn)), r2)
+                   tuple(float(s / w) for s, w in zip(sig, wn)), r2, int(y.size),
+                  float(np.sqrt(np.mean(sol.fun**2))) * scale)
 
 
 def refine_frequency(

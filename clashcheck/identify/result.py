@@ -137,6 +137,8 @@ class ModesResult:
     candidates: tuple[MeasuredMode, ...] = ()
     #: Measured occupancy of a flight recording (throttle or rotor-rate bands), if known.
     dwell: Dwell | None = None
+    #: Onset of each impact used (tap tests) [s from the start of the analysed stretch].
+    impact_times_s: tuple[float, ...] = ()
     #: What the figures show (:class:`~.views.FlightView` or :class:`~.views.TapView`); not compared.
     view: object | None = field(default=None, compare=False, repr=False)
 
