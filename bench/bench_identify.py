@@ -224,6 +224,7 @@ class Score:
     damp_err: list[float] = field(default_factory=list)
     covered: list[bool] = field(default_factory=list)
     missed: int = 0
+    as_candidates: int = 0
     false: int = 0
     truth: int = 0
     recordings: int = 0
@@ -231,8 +232,12 @@ class Score:
     seconds: float = 0.0
 
     def add(self, found: list[tuple[float, float | None, float | None, float | None]],
-            truth: list[tuple[float, float]]) -> None:
-        """Score one recording: found (f, ζ, ζ_low, ζ_high) against truth (f, ζ)."""
+            truth: list[tuple[float, float]], candidates: tuple[float, ...] = ()) -> None:
+        """Score one recording: found (f, ζ, ζ_low, ζ_high) against truth (f, ζ).
+
+        ``candidates`` are the frequencies listed below the confidence floor: a
+        missed mode found among them is counted apart.
+        """
         self.recordings += 1
         self.truth += len(truth)
         used = set()
@@ -244,6 +249,8 @@ class Score:
                     best = j
             if best is None:
                 self.missed += 1
+                if any(abs(f / ft - 1) < MATCH for f in candidates):
+                    self.as_candidates += 1
                 continue
             used.add(best)
             f, z, lo, hi = found[best]
@@ -264,7 +271,9 @@ class Score:
                 f"{fe.max():.2f}" if fe.size else "—",
                 f"{np.median(de):.1f} / {de.max():.1f}" if de.size else "—",
                 f"{np.mean(de <= 25) * 100:.0f} %" if de.size else "—",
-                cov, f"{self.missed}/{self.truth}", str(self.false),
+                cov, f"{self.missed}/{self.truth}" + (f" ({self.as_candidates} cand.)"
+                                                        if self.as_candidates else ""),
+                str(self.false),
                 str(len(self.failures))]
 
 
@@ -272,7 +281,7 @@ class Score:
 TAP_BAND = (20.0, 1000.0)
 
 
-def _ours_tap(path: str) -> tuple[list, float]:
+def _ours_tap(path: str) -> tuple[list, float, tuple[float, ...]]:
     from clashcheck.errors import ClashcheckError
     from clashcheck.identify import Columns, TapSettings, analyse_tap, open_recording
 
@@ -283,11 +292,11 @@ def _ours_tap(path: str) -> tuple[list, float]:
     except ClashcheckError as exc:
         raise RuntimeError(str(exc)) from None
     found = [(m.frequency_hz, m.damping, m.damping_low, m.damping_high) for m in res.modes]
-    return found, time.perf_counter() - t0
+    return found, time.perf_counter() - t0, tuple(m.frequency_hz for m in res.candidates)
 
 
 def _lscf_tap(x: np.ndarray, fs: float, onsets: list[int], fmin: float, fmax: float,
-              order: int = 40) -> tuple[list, float]:
+              order: int = 40) -> tuple[list, float, tuple[float, ...]]:
     """sdypy-EMA LSCF on the onset-aligned complex average of the taps' spectra."""
     from sdypy import EMA
 
@@ -328,10 +337,10 @@ def _lscf_tap(x: np.ndarray, fs: float, onsets: list[int], fmin: float, fmax: fl
     need = 0.4 * (top - top // 2)
     found = [(float(np.median([c[0] for c in cl])), float(np.median([c[1] for c in cl])), None,
               None) for cl in clusters if len(cl) >= need]
-    return found, time.perf_counter() - t0
+    return found, time.perf_counter() - t0, ()
 
 
-def _ours_flight(path: str) -> tuple[list, float]:
+def _ours_flight(path: str) -> tuple[list, float, tuple[float, ...]]:
     from clashcheck.errors import ClashcheckError
     from clashcheck.identify import Columns, FlightSettings, analyse_flight, open_recording
 
@@ -344,7 +353,7 @@ def _ours_flight(path: str) -> tuple[list, float]:
     except ClashcheckError as exc:
         raise RuntimeError(str(exc)) from None
     found = [(m.frequency_hz, m.damping, m.damping_low, m.damping_high) for m in res.modes]
-    return found, time.perf_counter() - t0
+    return found, time.perf_counter() - t0, tuple(m.frequency_hz for m in res.candidates)
 
 
 def main() -> int:
@@ -374,8 +383,8 @@ def main() -> int:
                             ("LSCF (sdypy-EMA)", lambda: _lscf_tap(x, fs, onsets, *TAP_BAND))):
             sc = scores.setdefault((cond, method), Score())
             try:
-                found, secs = run()
-                sc.add(found, truth)
+                found, secs, cands = run()
+                sc.add(found, truth, cands)
                 sc.seconds += secs
             except Exception as exc:  # noqa: BLE001  a refused recording is scored as all missed
                 sc.failures.append(f"{type(exc).__name__}: {exc}")
@@ -394,8 +403,8 @@ def main() -> int:
                 truth = [(f, z) for f, z in truth if f <= top]
             sc = scores.setdefault((cond, "clashcheck"), Score())
             try:
-                found, secs = _ours_flight(path)
-                sc.add(found, truth)
+                found, secs, cands = _ours_flight(path)
+                sc.add(found, truth, cands)
                 sc.seconds += secs
             except Exception as exc:  # noqa: BLE001
                 sc.failures.append(f"{type(exc).__name__}: {exc}")

@@ -112,8 +112,34 @@ class Counts(click.ParamType):
         return numbers
 
 
-def emit(text: str, output: Path | None, inputs) -> None:
-    """Print a report, or write it atomically to a file.
+def provenance_of(name: str, paths) -> str:
+    """The provenance line of outputs made from the files ``paths`` (read here, hashed in report).
+
+    Parameters
+    ----------
+    name : str
+        Build or recording name.
+    paths : sequence of path-like
+        Input files, in a fixed order; missing ones are skipped.
+
+    Returns
+    -------
+    str
+        Tool, version, date, name and a short hash of the files' bytes.
+    """
+    from ..report.provenance import Provenance
+
+    blobs = []
+    for p in paths:
+        try:
+            blobs.append(Path(p).read_bytes())
+        except OSError:
+            continue
+    return Provenance.of(name, blobs).line()
+
+
+def emit(text: str, output: Path | None, inputs, fmt: str | None = None, provenance: str | None = None) -> None:
+    """Print a report, or write it atomically to a file; Markdown gets the provenance line.
 
     Parameters
     ----------
@@ -123,13 +149,22 @@ def emit(text: str, output: Path | None, inputs) -> None:
         File to write; ``None`` prints to standard output.
     inputs : iterable of str or pathlib.Path
         The command's input files; ``output`` may not be one of them.
+    fmt : str, optional
+        The report's format; ``markdown`` gets the provenance footer.
+    provenance : str, optional
+        The provenance line (:func:`provenance_of`).
 
     Raises
     ------
     OutputError
-        When ``output`` is an input, a folder, or cannot be written.
+        When ``output`` breaks the output policy (:mod:`clashcheck.files`).
     """
     from ..files import write_output
+
+    if fmt == "markdown" and provenance:
+        from ..report.provenance import markdown_footer
+
+        text = text + markdown_footer(provenance)
 
     if output is not None:
         write_output(output, text, inputs=inputs)

@@ -14,6 +14,8 @@ from ._common import (
     FORMATS,
     PATH,
     force_option,
+    emit,
+    provenance_of,
 )
 
 
@@ -53,7 +55,6 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
     """
     from ..analysis.clash import check_build
     from ..analysis.levels import reaches
-    from ..files import write_output
     from ..inputs.buildfile import load_build, load_modes_file
     from ..report.check import render
 
@@ -62,6 +63,7 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
         build = build.with_measured(load_modes_file(modes_file))
     result = check_build(build)
     inputs = [p for p in (build_file, modes_file) if p is not None]
+    prov = provenance_of(result.name, inputs) if (fmt == "markdown" or plot_file is not None) else None
     suggestions = None
     if with_suggestions or (plot_file is not None and fmt == "markdown"):  # scipy only on this path
         from ..analysis.suggest import suggest
@@ -73,7 +75,10 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
 
         if output is not None and Path(output).resolve() == Path(plot_file).resolve():
             raise OutputError(str(plot_file), "the diagram and the report need different files")
-        save_campbell(plot_file, [campbell_data(build, result)], inputs=inputs)
+        from ..analysis.diagram import diagram_curves
+
+        save_campbell(plot_file, [campbell_data(build, result, diagram_curves(build, result), provenance=prov)],
+                      inputs=inputs)
     if plot_file is not None and fmt == "markdown":
         from ..report.decide import image_reference, render_check_report
 
@@ -84,10 +89,7 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
         text = render_check_with_suggestions(result, suggestions, fmt)
     else:
         text = render(result, fmt)
-    if output is not None:
-        write_output(output, text, inputs=inputs)
-    else:
-        click.echo(text, nl=False)
+    emit(text, output, inputs, fmt, prov)
     sys.exit(EXIT_FAIL if reaches(result.verdict, fail_on) else EXIT_OK)
 
 
@@ -120,6 +122,7 @@ def plot_command(build_file: Path, output: Path, modes_file: Path | None) -> Non
     Needs the [plot] extra (matplotlib).
     """
     from ..analysis.clash import check_build
+    from ..analysis.diagram import diagram_curves
     from ..inputs.buildfile import load_build, load_modes_file
     from ..report.campbell import campbell_data, save_campbell
 
@@ -127,7 +130,10 @@ def plot_command(build_file: Path, output: Path, modes_file: Path | None) -> Non
     if modes_file is not None:
         build = build.with_measured(load_modes_file(modes_file))
     result = check_build(build)
-    save_campbell(output, [campbell_data(build, result)], inputs=[p for p in (build_file, modes_file) if p])
+    inputs = [p for p in (build_file, modes_file) if p]
+    curves = diagram_curves(build, result)
+    save_campbell(output, [campbell_data(build, result, curves, provenance=provenance_of(result.name, inputs))],
+                  inputs=inputs)
     click.echo(f"wrote {output}: {result.name}, verdict {result.verdict}")
 
 

@@ -17,6 +17,7 @@ from ._common import (
     Quantity,
     emit,
     force_option,
+    provenance_of,
 )
 
 
@@ -76,12 +77,16 @@ def compare(build_a: Path, build_b: Path, fmt: str, fail_on: str, no_shift: bool
     from ..report.decide import render_compare
 
     result = compare_builds(_load(build_a), _load(build_b), shift_modes=not no_shift, mass=mass)
+    prov = provenance_of(f"{result.a.name} vs {result.b.name}", [build_a, build_b])
     if plot_file is not None:
         from ..report.campbell import campbell_data, save_campbell
 
-        save_campbell(plot_file, [campbell_data(result.build_a, result.a), campbell_data(result.build_b, result.b)],
-                      inputs=[build_a, build_b])
-    emit(render_compare(result, fmt, fail_on), output, [build_a, build_b])
+        from ..analysis.diagram import diagram_curves
+
+        save_campbell(plot_file, [campbell_data(result.build_a, result.a, diagram_curves(result.build_a, result.a)),
+                                  campbell_data(result.build_b, result.b, diagram_curves(result.build_b, result.b))],
+                      inputs=[build_a, build_b], provenance=prov)
+    emit(render_compare(result, fmt, fail_on), output, [build_a, build_b], fmt, prov)
     sys.exit(EXIT_FAIL if result.worse_at(fail_on) else EXIT_OK)
 
 
@@ -155,7 +160,7 @@ def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str |
                   f"({best.label}), verdict {best.result.verdict}.\nArm modes are written as shifted for the "
                   "candidate's tip mass; the all-up mass includes the change in part mass.")
         write_output(write_build, dump_build(best.build, header=header), inputs=[build_file])
-    emit(render_pick(result, fmt), output, [build_file])
+    emit(render_pick(result, fmt), output, [build_file], fmt, provenance_of(build.name, [build_file]))
     sys.exit(EXIT_OK if result.top and result.top[0].band_clear else EXIT_FAIL)
 
 

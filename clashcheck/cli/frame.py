@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from ._common import PATH, Quantity, emit
+from ._common import PATH, Quantity, emit, provenance_of
 
 #: Library field names and the flags that set them.
 FIELD_FLAGS = {"max_frequency_hz": "--max-frequency", "elements_per_arm": "--elements",
@@ -60,7 +60,8 @@ def frame_command(build_file: Path, fmt: str, max_frequency: float, elements: in
     estimate = estimate_once(model, max_frequency)
     pairs = close_modes(frame_modes(estimate), separation)
     if plot_file is not None:
-        save_frame_plot(plot_file, estimate, inputs=inputs)
+        save_frame_plot(plot_file, estimate, inputs=inputs,
+                        provenance=provenance_of(build_file.stem, inputs))
     text = (dump_json(frame_json(estimate, pairs, calibration)) if fmt == "json"
             else frame_table(estimate, pairs, calibration))
     emit(text, output, inputs)

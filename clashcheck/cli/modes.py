@@ -17,6 +17,7 @@ from ._common import (
     Quantity,
     emit,
     force_option,
+    provenance_of,
 )
 
 
@@ -56,8 +57,12 @@ def _modes_progress(quiet: bool, rows: int, channels: int):
 @click.option("--include-candidates", is_flag=True,
               help="Also write weak or flagged peaks (confidence below the floor) as modes.")
 @click.option("--quiet", "-q", is_flag=True, help="No progress bar.")
+@click.option("--plot", "plot_file", type=PATH,
+              help="Also draw the spectra (.png, .svg, .pdf; needs the [plot] extra); a flight adds a "
+                   "time view beside it (the file name + '-time').")
 def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str | None, fmt: str,
-                  output: Path | None, quiet: bool, include_candidates: bool, **opts) -> None:
+                  output: Path | None, quiet: bool, include_candidates: bool, plot_file: Path | None = None,
+                  **opts) -> None:
     """Find frame modes (frequency, damping, axis) in a tap test or flight recording.
 
     Tap tests are done with the propellers removed. Results are design advice.
@@ -70,6 +75,10 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
     from ..identify.options import recording_plan
     from ..report.modes import render_json, render_table, render_toml
 
+    if plot_file is not None:  # refuse a bad target before the analysis
+        from ..report.recording_figures import check_plot_target
+
+        check_plot_target(plot_file, [recording] + ([build_file] if build_file else []), kind)
     build = None
     if build_file is not None:
         from ..inputs.buildfile import load_build
@@ -97,9 +106,17 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
                 last[0] = max(last[0], min(done, total))
 
         result = run(tick)
+    inputs = [recording] + ([build_file] if build_file else [])
+    if plot_file is not None:  # matplotlib is imported only on this path
+        from ..identify.views import TapView, decay_views
+        from ..report.recording_figures import save_recording_figures
+
+        decays = decay_views(result.view, result.modes) if isinstance(result.view, TapView) else ()
+        for path in save_recording_figures(plot_file, result, decays=decays, inputs=inputs,
+                                           provenance=provenance_of(result.recording, inputs)):
+            click.echo(f"wrote {path}", err=True)
     if output is not None:
-        emit(render_toml(result, include_candidates=include_candidates), output,
-             [recording] + ([build_file] if build_file else []))
+        emit(render_toml(result, include_candidates=include_candidates), output, inputs)
     click.echo(render_json(result) if fmt == "json" else render_table(result), nl=False)
 
 

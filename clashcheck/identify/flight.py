@@ -60,6 +60,7 @@ from .readers import Recording
 from .band import check_band
 from .result import Dwell, MeasuredMode, ModesResult, OrderStrength
 from .spectra import SegmentStream, hann_periodic, segment_length
+from .views import Timeline, flight_view
 
 __all__ = ["FlightSettings", "analyse_flight", "stream_flight", "StreamedFlight", "order_families",
            "MIN_SEGMENTS", "MIN_BINS", "CONFIDENCE_FLOOR", "DRIVE_TOLERANCE", "MOTOR_SPREAD",
@@ -430,6 +431,8 @@ class StreamedFlight:
     findings: Findings
     #: Warnings of the pass (without the findings' own).
     warnings: list[str]
+    #: Spectrogram against time for the figures (bounded size).
+    timeline: Timeline | None = None
 
 
 def _line_bounds(k: float, lo: np.ndarray, hi: np.ndarray, spread: np.ndarray,
@@ -577,6 +580,7 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
     cond = Conditioner(recording)
     state: dict[str, Any] = {}
     bins = _Bins(settings.bin_width)
+    timeline: Timeline | None = None  # for the figures
     occupancy = _Occupancy("throttle" if recording.has_throttle else "rotor_hz")
     throttle_scale: list[float | None] = [None]
     predicted = not recording.has_rotor and settings.rotor_of_throttle is not None
@@ -720,6 +724,8 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
             stream: SegmentStream = state["stream"]
             for segs in stream.feed(run.run, run.signals, aux):
                 value, spread, lo, hi, is_rotor = key_of(segs.aux_mean)
+                timeline = timeline or Timeline(state["nper"] // 2 / state["fs"])
+                timeline.add(segs.psd[:, :, state["band"]].sum(axis=1), value)
                 live = value > (1.0 if is_rotor else 0.02)
                 if not live.any():
                     continue
@@ -781,7 +787,7 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
         bins.counts, bins.values, bins.masked, bins.kept, bins.estimates, bins.estimated,
         cat(powers, (0, n_ord)), cat(powers_est, (0, n_ord)), cat(rotor_seg, (0,)),
         cat(est_seg, (0,)), cat(hits_seg, (0,)).astype(int), occupancy.result(), findings,
-        warnings)
+        warnings, timeline)
 
 
 def _window_sums(total: np.ndarray, rows: np.ndarray, blo: np.ndarray, lo: np.ndarray,
@@ -1013,6 +1019,9 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
         sample_rate_hz=fs, duration_s=findings.duration_s, resolution_hz=fs / nper,
         modes=kept_modes, orders=orders, warnings=tuple(dict.fromkeys(warnings)),
         averages=int(total), candidates=weak, dwell=streamed.dwell,
+        view=flight_view(freq, values, counts, rotor_known, normed_any, stationary, axes, families,
+                         streamed.timeline, rotor_words,
+                         "logged" if recording.has_rotor else "drive model" if rotor_known else "throttle"),
     )
 
 

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
 from ..errors import InputError
@@ -14,18 +14,12 @@ if TYPE_CHECKING:
     from .decay import AmplitudeDamping
 
 __all__ = ["MeasuredMode", "OrderStrength", "ModesResult", "Dwell", "ORDER_FAMILIES", "KINDS",
-           "DWELL_QUANTITIES", "CONFIDENCE_FLOOR"]
+           "DWELL_QUANTITIES"]
 
 #: Kinds of recording.
 KINDS = ("tap", "flight")
 #: What a measured dwell is counted over: throttle (fraction 0–1) or rotor rate [Hz].
 DWELL_QUANTITIES = ("throttle", "rotor_hz")
-
-#: Modes whose confidence is below this floor are not written to the modes
-#: file: they are listed as candidates (``ModesResult.candidates``) unless the
-#: analysis is asked to include them (``include_candidates``).  At 0.3 a tap-test
-#: peak needs about 14 dB over the noise with agreeing damping estimates.
-CONFIDENCE_FLOOR = 0.3
 
 
 @dataclass(frozen=True)
@@ -139,14 +133,14 @@ class ModesResult:
     warnings: tuple[str, ...] = ()
     #: Number of impacts averaged (tap) or spectral segments used (flight).
     averages: int = 0
-    #: Weak or doubtful peaks kept out of ``modes`` (confidence below
-    #: :data:`CONFIDENCE_FLOOR`, or flagged), by frequency; listed, and written to a modes
-    #: file only when asked for.
+    #: Peaks below the confidence floor: listed, but kept out of the modes by default.
     candidates: tuple[MeasuredMode, ...] = ()
     #: Measured occupancy of a flight recording (throttle or rotor-rate bands), if known.
     dwell: Dwell | None = None
     #: Onset of each impact used (tap tests) [s from the start of the analysed stretch].
     impact_times_s: tuple[float, ...] = ()
+    #: What the figures show (:class:`~.views.FlightView` or :class:`~.views.TapView`); not compared.
+    view: object | None = field(default=None, compare=False, repr=False)
 
     def __post_init__(self) -> None:
         if self.kind not in KINDS:

@@ -22,7 +22,7 @@ from __future__ import annotations
 import math
 import os
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import TypeGuard
 
 import numpy as np
@@ -34,11 +34,12 @@ from .checks import USABLE_BAND, Conditioner, require_duration, require_sample_r
 from .damping import SdofFit, corrected_half_power, sdof_fit, transient_model
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
-from .result import CONFIDENCE_FLOOR, MeasuredMode, ModesResult
+from .result import MeasuredMode, ModesResult
+from .views import TapView
 
 __all__ = ["TapSettings", "analyse_tap", "detect_impacts", "clipped_samples", "stationary_lines",
            "StationaryLine", "bounce_delays", "MAX_SEGMENT_S", "ONSET_RATIO", "MAX_TAP_ROWS",
-           "SIGNIFICANCE"]
+           "SIGNIFICANCE", "CONFIDENCE_FLOOR"]
 
 #: Longest segment used after an impact [s].
 MAX_SEGMENT_S = 8.0
@@ -52,6 +53,10 @@ SIGNIFICANCE = 5.0
 #: Impacts (the strongest) used for the decay fit.
 FIT_IMPACTS = 4
 _PRE_S = 0.002
+#: Peaks below this confidence are candidates, not modes (unless
+#: ``TapSettings.include_candidates``).  At 0.3 a peak needs about 14 dB over
+#: the noise with agreeing damping estimates.
+CONFIDENCE_FLOOR = 0.3
 #: Most steady lines (hum and harmonics, fans) taken from the lead-in.
 MAX_LINES = 60
 
@@ -76,7 +81,7 @@ class TapSettings:
     max_modes: int = 12
     #: Axis written for every mode found.
     axis: str = "any"
-    #: Put candidates (confidence below :data:`.result.CONFIDENCE_FLOOR`, or
+    #: Put candidates (confidence below :data:`CONFIDENCE_FLOOR`, or
     #: flagged as harmonics of clipping or unresolved) among the modes.
     include_candidates: bool = False
 
@@ -272,10 +277,17 @@ def stationary_lines(lead: np.ndarray, sample_rate_hz: float, min_frequency_hz: 
     f, p = signal.periodogram(lead, sample_rate_hz, window="hann", axis=0)
     p = p.sum(axis=1)
     df = f[1] - f[0]
-    med = ndimage.median_filter(p, size=max(9, int(20.0 / df) | 1), mode="nearest")
+    # a wide running median (≥ 31 bins, ≥ 60 Hz), so its own scatter does not let
+    # chance bins through
+    size = max(31, int(60.0 / df) | 1)
+    # the removed offset leaves a hole at 0 Hz (the window's main lobe): filled for the median
+    filled = p.copy()
+    filled[:3] = np.median(p[3:3 + size])
+    med = ndimage.median_filter(filled, size=size, mode="nearest")
     tiny = np.finfo(float).tiny
     db = 10.0 * np.log10(np.maximum(p, tiny))
-    inband = (f >= 0.8 * min_frequency_hz) & (f <= 1.1 * max_frequency_hz)
+    inband = (f >= 0.8 * min_frequency_hz) & (f <= 1.1 * max_frequency_hz) & (
+        np.arange(len(f)) >= 3)
     # a noise bin of a periodogram exceeds T × its median with probability 2^−T
     # (exponential distribution): T is set so the whole band holds 0.05 chance lines
     chance_db = 10.0 * math.log10(math.log2(max(2, int(inband.sum())) / 0.05))
@@ -516,6 +528,9 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
             warnings.append("every impact clipped the recording: peaks at whole multiples of a "
                             "stronger peak are listed as candidates, not modes; tap more lightly "
                             "or lower the gain")
+    doubled = {int(i) for i in double} | {int(i) + 1 for i in double}
+    rejected = [(int(o), "double hit" if i in doubled else "clipped")  # for the figure
+                for i, o in enumerate(onsets) if not keep[i]]
     onsets, gaps = onsets[keep], gaps[keep]
     if onsets.size == 0:
         raise RecordingError(recording.path, "", "every impact was a double hit")
@@ -566,6 +581,7 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
             delays = ", ".join(f"{1e3 * t:.1f}" for _i, t, _a in bounced)
             warnings.append(f"{len(bounced)} impacts had a second hit (hammer bounce, {delays} ms "
                             "after the first) and were left out")
+            rejected += [(int(o), "hammer bounce") for o in onsets[drop]]  # for the figure
             onsets, segs, spec = onsets[~drop], segs[~drop], spec[~drop]
         elif bounced:
             warnings.append(f"{len(bounced)} of {onsets.size} impacts show a second hit (hammer "
@@ -709,7 +725,8 @@ def analyse_tap(recording: Recording, settings: TapSettings = TapSettings(),
     # damping against amplitude per mode (issue 14), kept apart in .decay
     from .decay import with_amplitude_damping
 
-    return with_amplitude_damping(result, x, onsets, pre)
+    result = with_amplitude_damping(result, x, onsets, pre)
+    return replace(result, view=TapView(fb, pb, floor, noise, fs, x, onsets, tuple(rejected), pre))
 
 
 @dataclass
@@ -727,10 +744,11 @@ def _decay_fits(free: np.ndarray, fs: float, found: list, skip: int,
                 resolution: float, noise_rms: float = 0.0) -> _Fitted:
     """Joint SDOF decay fits of the strongest impacts; close pairs split where the data say so.
 
-    A peak whose half-power and decay-fit dampings differ by more than 1.4×
+    A peak whose half-power and decay-fit dampings differ by 1.2× or more
     is tried as two modes (f ∓ δ); the split is kept when the Bayesian
-    information criterion falls by more than 10 (Schwarz 1978) and the two
-    fitted modes stay apart from each other and off the search bounds.  A fit
+    information criterion falls by more than 10 (Schwarz 1978), the two
+    fitted modes stay apart from each other and off the search bounds, and
+    each one's ζ lies within 0.25–1.5× the lower of the peak's two readings.  A fit
     counts when it explains 80 % of the response's energy, or when what it
     leaves is no more than the sensor noise (RMS ``noise_rms``, from the lead-in).
     """
@@ -752,14 +770,16 @@ def _decay_fits(free: np.ndarray, fs: float, found: list, skip: int,
     if clean(first):
         for k, (_pk, hp) in enumerate(found):
             zd, zh = first.dampings[k], hp.damping
-            if zh is None or zd < 1.4 * zh:
+            if zh is None or max(zd, zh) < 1.2 * min(zd, zh):
                 continue
             fk = first.freqs_hz[k]
+            if _amplitude_dependent(free[strongest], fs, fk, skip):
+                continue  # one mode whose damping changes with amplitude (friction), not a pair
             delta = max(zd, 1.5 * resolution / fk)
             gf = list(first.freqs_hz)
             gz = list(first.dampings)
             gf[k:k + 1] = [fk * (1 - delta), fk * (1 + delta)]
-            gz[k:k + 1] = [zh, zh]
+            gz[k:k + 1] = [min(zd, zh), min(zd, zh)]
             split = sdof_fit(free[strongest[0]], fs, gf, gz, skip, max_evaluations=60 * len(gf))
             if split is None or first.samples == 0:
                 continue
@@ -770,7 +790,11 @@ def _decay_fits(free: np.ndarray, fs: float, found: list, skip: int,
             f1, f2 = split.freqs_hz[k], split.freqs_hz[k + 1]
             apart = abs(f2 - f1) > 0.25 * (split.dampings[k] + split.dampings[k + 1]) * fk
             inside = all(abs(f / g - 1) < 0.028 for f, g in zip((f1, f2), gf[k:k + 2]))
-            if bic < -10.0 and apart and inside:
+            # each mode of a true pair is no more damped than the pair's broadened peak
+            # reads, and not far less (a noise-fitting split puts one mode near ζ = 0)
+            ref_z = min(zd, zh)
+            plausible = all(0.25 * ref_z <= z <= 1.5 * ref_z for z in split.dampings[k:k + 2])
+            if bic < -10.0 and apart and inside and plausible:
                 members = [[j] if j < k else [j + 1] for j in range(k)] + [[k, k + 1]] + [
                     [j + 1] for j in range(k + 1, len(found))]
                 guesses_f, guesses_z = list(split.freqs_hz), list(split.dampings)
@@ -789,6 +813,22 @@ def _decay_fits(free: np.ndarray, fs: float, found: list, skip: int,
     z = np.array([f.dampings for f in fits])
     return _Fitted(members, fits, np.median([f.freqs_hz for f in fits], axis=0),
                    np.median(z, axis=0), np.array([z.min(axis=0), z.max(axis=0)]))
+
+
+def _amplitude_dependent(free: np.ndarray, fs: float, freq_hz: float, skip: int) -> bool:
+    """Whether one mode's decay at ``freq_hz`` reads as friction or mixed (:mod:`.decay`).
+
+    A decay whose damping changes with amplitude (a joint that slips) also
+    makes the half-power and decay-fit dampings disagree; it is one mode, and
+    the two-mode split is not tried for it.
+    """
+    from .decay import _bands, analyse_mode_decay
+
+    try:
+        found = analyse_mode_decay(free, fs, freq_hz, _bands([freq_hz], 0.5 * fs)[0], skip)
+    except (ValueError, np.linalg.LinAlgError):
+        return False
+    return found is not None and found.decay in ("friction", "mixed")
 
 
 def _pair_modes(pk, hp, members: list[int], fitted: _Fitted, axis: str,

@@ -851,10 +851,12 @@ def render_check_report(build, result, suggestions, image_ref: str | None) -> st
     if image_ref is not None:
         sections.append(
             f"## Diagram\n\n![Campbell diagram of {result.name}]({image_ref})\n\n"
-            "Excitation frequency against throttle: each order is a band from the full to the empty pack, "
-            "dashed lines are aliased orders as the sensor sees them, grey lines are the frame modes with "
-            "their required-margin bands, thick orange segments are the danger ranges (solid where they "
-            "touch the operating band), dots are crossings, dotted verticals the hover points."
+            "Excitation frequency against rotor speed, with a throttle scale per pack state underneath: "
+            "each order is a line k × rotor rate coloured by family, dashed lines are aliased orders as the "
+            "sensor sees them, dark lines are the frame modes with their required-margin bands (grey), "
+            "orange segments are the danger ranges (thick and solid in a dwell zone, thin and dashed where "
+            "only passed through), hatched strips are the dwell zones, the yellow strip the operating band, "
+            "dots are crossings, dotted verticals the hover points."
         )
     lines = [f"- {line}" for line in _suggestion_lines(result, suggestions)]
     sections.append("## Suggestions\n\n" + "\n".join(lines))

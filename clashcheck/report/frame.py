@@ -369,7 +369,7 @@ def draw_frame_modes(fig: Any, est: FrameEstimate, count: int = 8) -> None:
 
 
 def save_frame_plot(path: str | Path, est: FrameEstimate, *, count: int = 8,
-                    inputs: Sequence[str | Path] = ()) -> None:
+                    inputs: Sequence[str | Path] = (), provenance: str | None = None) -> None:
     """Write the shape pictures to ``path`` (PNG, SVG or PDF by suffix), atomically.
 
     Parameters
@@ -382,6 +382,8 @@ def save_frame_plot(path: str | Path, est: FrameEstimate, *, count: int = 8,
         How many modes to draw.
     inputs : sequence of paths, optional
         Files never to overwrite.
+    provenance : str, optional
+        Provenance line printed in small type (:mod:`clashcheck.report.provenance`).
 
     Returns
     -------
@@ -404,6 +406,8 @@ def save_frame_plot(path: str | Path, est: FrameEstimate, *, count: int = 8,
     n = max(1, min(count, len(est.modes)))
     fig = figure_cls(figsize=(8.0, 2.6 * n), layout="constrained")
     canvas_cls(fig)
+    if provenance:  # as a suptitle, so the constrained layout keeps room for it
+        fig.suptitle(provenance, fontsize=6, x=0.005, ha="left", color="#666666", gid="label:provenance")
     draw_frame_modes(fig, est, count)
     buffer = io.BytesIO()
     fig.savefig(buffer, format=suffix, dpi=110, metadata={"Date": None} if suffix == "svg" else None)
