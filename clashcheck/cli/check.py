@@ -95,8 +95,11 @@ def check(build_file: Path, fmt: str, fail_on: str, modes_file: Path | None, out
 
 @click.command()
 @click.argument("kind", type=click.Choice(["motors", "props", "batteries", "frames", "materials"]), default="motors")
-@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
-def catalog(kind: str, fmt: str) -> None:
+@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True,
+              help="Output format (JSON in SI, with unit-suffixed keys).")
+@click.option("--output", "-o", type=click.Path(path_type=Path), help="Write the listing here (atomically).")
+@force_option
+def catalog(kind: str, fmt: str, output: Path | None) -> None:
     """List the shipped catalog entries of one kind (generic, typical figures)."""
     from ..inputs.catalog import load_catalog
 
@@ -104,23 +107,34 @@ def catalog(kind: str, fmt: str) -> None:
         from ..inputs.catalog_entries import validated_entries
         from ..report.catalog import catalog_json
 
-        click.echo(catalog_json(kind, validated_entries(kind)), nl=False)
-        return
-    from ..report.catalog import render_catalog
+        text = catalog_json(kind, validated_entries(kind))
+    else:
+        from ..report.catalog import render_catalog
 
-    click.echo(render_catalog(kind, load_catalog(kind), fmt), nl=False)
+        text = render_catalog(kind, load_catalog(kind), fmt)
+    emit(text, output, [])
 
 
 @click.command("plot")
 @click.argument("build_file", type=PATH)
-@click.option("--output", "-o", type=PATH, required=True, help="The diagram: .png, .svg or .pdf.")
+@click.option("--plot", "plot_file", type=PATH, help="The diagram: .png, .svg or .pdf.")
+@click.option("--output", "-o", "output", type=PATH, hidden=True,
+              help="Former name of --plot for this command; kept for one release.")
 @force_option
 @click.option("--modes", "modes_file", type=PATH, help="Measured modes to merge into the build.")
-def plot_command(build_file: Path, output: Path, modes_file: Path | None) -> None:
-    """Draw the Campbell diagram: excitation frequency against throttle, with the frame modes.
+def plot_command(build_file: Path, plot_file: Path | None, output: Path | None, modes_file: Path | None) -> None:
+    """Draw the Campbell diagram: excitation frequency against rotor speed, with the frame modes.
 
-    Needs the [plot] extra (matplotlib).
+    Needs the [plot] extra (matplotlib). The same figure comes with
+    'check --plot FILE'.
     """
+    from ..errors import InputError
+
+    if (plot_file is None) == (output is None):
+        raise InputError("--plot", "one file for the diagram (.png, .svg or .pdf)",
+                         "both --plot and -o" if plot_file else "nothing")
+    output = plot_file or output
+    assert output is not None
     from ..analysis.clash import check_build
     from ..analysis.diagram import diagram_curves
     from ..inputs.buildfile import load_build, load_modes_file

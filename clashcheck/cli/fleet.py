@@ -9,7 +9,7 @@ from typing import Any
 
 import click
 
-from ._common import EXIT_FAIL, EXIT_OK, PATH
+from ._common import EXIT_FAIL, EXIT_OK, PATH, emit, force_option
 
 
 @click.command("fleet")
@@ -23,8 +23,10 @@ from ._common import EXIT_FAIL, EXIT_OK, PATH
                    "default $DASK_SCHEDULER_ADDRESS.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @click.option("--quiet", "-q", is_flag=True, help="No progress bar.")
+@click.option("--output", "-o", type=PATH, help="Write the report here (atomically).")
+@force_option
 def fleet_command(manifest: Path, store_path: Path | None, jobs: int, scheduler: str | None, fmt: str,
-                  quiet: bool) -> None:
+                  quiet: bool, output: Path | None) -> None:
     """Analyse every recording of a fleet not yet analysed; report drift per aircraft.
 
     Exit code 1 when any aircraft is flagged (a mode left its baseline's band,
@@ -50,7 +52,7 @@ def fleet_command(manifest: Path, store_path: Path | None, jobs: int, scheduler:
         finally:
             bars.close()
         result = assess_fleet(fleet, store, plan, run)
-    click.echo(render_json(result) if fmt == "json" else render_table(result), nl=False)
+    emit(render_json(result) if fmt == "json" else render_table(result), output, inputs + [store_file])
     sys.exit(EXIT_FAIL if any(a.flagged for a in result.aircraft) else EXIT_OK)
 
 

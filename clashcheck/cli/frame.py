@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from ._common import PATH, Quantity, emit, provenance_of
+from ._common import PATH, Quantity, emit, force_option, provenance_of
 
 #: Library field names and the flags that set them.
 FIELD_FLAGS = {"max_frequency_hz": "--max-frequency", "elements_per_arm": "--elements",
@@ -31,6 +31,7 @@ FIELD_FLAGS = {"max_frequency_hz": "--max-frequency", "elements_per_arm": "--ele
 @click.option("--plot", "plot_file", type=PATH,
               help="Also draw plan and side views of the first 8 modes here (.png, .svg, .pdf).")
 @click.option("--output", "-o", type=PATH, help="Write the report here (atomically).")
+@force_option
 def frame_command(build_file: Path, fmt: str, max_frequency: float, elements: int,
                   separation: float, modes_file: Path | None, fit_modulus: bool,
                   plot_file: Path | None, output: Path | None) -> None:

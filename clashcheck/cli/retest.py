@@ -7,7 +7,7 @@ from pathlib import Path
 
 import click
 
-from ._common import EXIT_FAIL, EXIT_OK, PATH, emit
+from ._common import EXIT_FAIL, EXIT_OK, PATH, emit, force_option
 
 
 @click.command("retest")
@@ -15,6 +15,7 @@ from ._common import EXIT_FAIL, EXIT_OK, PATH, emit
 @click.argument("after", type=PATH)
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
 @click.option("--output", "-o", type=PATH, help="Write the report here (atomically).")
+@force_option
 def retest_command(before: Path, after: Path, fmt: str, output: Path | None) -> None:
     """Compare two tap analyses (modes files) of the same frame, before and after a change.
 

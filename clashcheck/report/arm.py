@@ -11,7 +11,7 @@ from __future__ import annotations
 from typing import Any
 
 from ..model.arm import ArmEstimate, ArmGeometry, Material
-from .common import CAUTIONS
+from .common import CAUTIONS, JSON_SCHEMA_VERSION
 
 __all__ = ["CAUTIONS", "arm_table", "arm_json"]
 
@@ -135,6 +135,7 @@ def arm_json(estimate: ArmEstimate) -> dict[str, Any]:
     """
     geo = estimate.geometry
     return {
+        "schema_version": JSON_SCHEMA_VERSION,
         "arm": {
             "length_m": geo.length_m,
             "model_length_m": geo.model_length_m,
