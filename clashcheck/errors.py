@@ -14,8 +14,6 @@ __all__ = [
     "InputError",
     "RecordingError",
     "OutputError",
-    "ClashcheckWarning",
-    "AssumptionWarning",
 ]
 
 
@@ -123,11 +121,3 @@ class OutputError(ClashcheckError, OSError):
 
     def __reduce__(self):
         return (type(self), (self.path, self.problem))
-
-
-class ClashcheckWarning(UserWarning):
-    """Odd but legal input, or a result that deserves a second look."""
-
-
-class AssumptionWarning(ClashcheckWarning):
-    """A figure was assumed because the input did not give it."""

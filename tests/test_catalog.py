@@ -107,7 +107,7 @@ def test_entries_are_copies():
     assert load_catalog("motors")[MOTORS[0]]["kv"] != "1 rpm/V"
 
 
-@pytest.mark.parametrize("kind", ["motors", "props", "batteries", "frames", "materials"])
+@pytest.mark.parametrize("kind", sorted(KINDS))
 def test_catalog_command_lists_every_entry(runner, kind):
     result = runner.invoke(main, ["catalog", kind])
     assert result.exit_code == 0, result.output

@@ -68,3 +68,17 @@ def test_every_json_document_has_schema_version(runner, args):
 def test_plot_takes_its_figure_with_plot(runner, tmp_path):
     result = runner.invoke(main, ["plot", str(EXAMPLES / "freestyle-5in.toml")])
     assert result.exit_code == 2 and "--plot" in result.stderr
+
+
+@pytest.mark.parametrize("name", sorted(main.commands))
+def test_every_format_offers_table_and_json(name):
+    for p in main.commands[name].params:
+        if isinstance(p, click.Option) and "--format" in p.opts:
+            assert {"table", "json"} <= set(p.type.choices), name
+
+
+def test_catalog_kinds_are_the_command_choices():
+    from clashcheck.inputs.catalog import KINDS
+
+    kind = next(p for p in main.commands["catalog"].params if p.name == "kind")
+    assert set(kind.type.choices) == set(KINDS)

@@ -515,3 +515,11 @@ def test_every_seed_reads_cleanly(tmp_path):
         case = Case(kind, seeds()[kind], list(ARGS.get(kind, [])), [])
         outcome, detail = run_case(case, tmp_path)
         assert outcome == "result", (kind, detail)
+
+
+def test_every_recording_format_is_fuzzed():
+    """A format the readers accept without a fuzz seed would go unfuzzed (the recipe in DEVELOPERS.md)."""
+    from clashcheck.identify.readers import FORMATS
+
+    seeded = {kind.split("_")[0] for kind in seeds()}
+    assert set(FORMATS.values()) <= seeded

@@ -34,6 +34,7 @@ import numpy as np
 from ..errors import InputError, RecordingError
 
 __all__ = [
+    "FORMATS",
     "Columns",
     "Block",
     "Recording",
@@ -239,6 +240,10 @@ def _prefetched(gen: Iterator[Block]) -> Iterator[Block]:
         stop.set()
 
 
+#: File suffixes the readers accept and the format each is read as.
+FORMATS = {".csv": "csv", ".txt": "csv", ".tsv": "csv", ".wav": "wav", ".npy": "npy"}
+
+
 def open_recording(path: str | os.PathLike[str], columns: Columns) -> Recording:
     """Open a recording for streaming.
 
@@ -270,12 +275,12 @@ def open_recording(path: str | os.PathLike[str], columns: Columns) -> Recording:
         what = ("a folder" if stat.S_ISDIR(mode) else "a FIFO (named pipe)" if stat.S_ISFIFO(mode)
                 else "a device" if stat.S_ISCHR(mode) or stat.S_ISBLK(mode) else "not a regular file")
         raise RecordingError(text, "", f"{what}; a recording must be a regular file")
-    ext = os.path.splitext(text)[1].lower()
-    if ext in (".csv", ".txt", ".tsv"):
+    fmt = FORMATS.get(os.path.splitext(text)[1].lower())
+    if fmt == "csv":
         return _open_csv(text, columns)
-    if ext == ".wav":
+    if fmt == "wav":
         return _open_wav(text, columns)
-    if ext == ".npy":
+    if fmt == "npy":
         return _open_npy(text, columns)
     raise InputError("RECORDING", "a .csv, .wav or .npy file", text)
 
