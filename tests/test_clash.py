@@ -348,6 +348,16 @@ def test_assumed_damping_is_reported():
     assert any("damping assumed" in n and "a" in n for n in result.notes)
 
 
+def test_a_damping_upper_bound_is_named_with_the_value_used():
+    """The notes never contradict the table (issue 11): a measured bound is not 'assumed at the default'."""
+    bounded = Mode("narrow", 300.0, details={"damping_high": 0.004})
+    result = _result([Mode("a", 186.0), bounded])
+    used = {m.mode.name: m.damping for m in result.modes}
+    assert used["narrow"] == 0.004
+    assert not any("damping assumed" in n and "narrow" in n for n in result.notes)
+    assert any("narrow" in n and "0.004" in n for n in result.notes)
+
+
 def test_weak_aliased_windows_fall_below_the_floor():
     # a steep anti-alias filter leaves the commutation and cogging folds almost no weight
     sensor = Sensor(2000.0, antialias_cutoff_hz=300.0, antialias_order=4)
