@@ -409,3 +409,13 @@ def test_note_when_rotor_rate_peaks_before_max_throttle():
     assert np.any(np.diff(rate) < 0)  # the premise: the rate does fall somewhere
     notes = check_build(build).notes
     assert any("peaks at" in n and "full pack" in n and "both sides" in n for n in notes)
+
+
+def test_close_modes_reach_the_check_report():
+    """Two modes 3 % apart are a close pair in check's result, JSON and table (issue 15, item 3)."""
+    from clashcheck.report.check import render_table, result_to_dict
+
+    result = _result([Mode("a", 200.0, damping=0.01), Mode("b", 206.0, damping=0.01)])
+    assert [(p.lower, p.upper) for p in result.close_pairs] == [("a", "b")]
+    assert result_to_dict(result)["close_modes"][0]["lower_hz"] == 200.0
+    assert "exchange energy" in render_table(result)

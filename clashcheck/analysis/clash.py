@@ -48,6 +48,7 @@ from ..model.modes import (
     relative_margin,
 )
 from ..model.rates import TWO_PI
+from .close_modes import ClosePair, close_modes
 from .levels import FAIL_LEVELS, VERDICTS, worse_verdict
 from .windows import (
     LEVEL_CODES,
@@ -307,6 +308,8 @@ class ClashResult:
     cruise_dwell: bool = False
     #: Significance floor used.
     significance_floor: float = SIGNIFICANCE_FLOOR
+    #: Neighbouring modes close enough to exchange energy (any origin).
+    close_pairs: tuple[ClosePair, ...] = ()
 
 
 def operating_bands(
@@ -902,6 +905,7 @@ def analyse(
         dwell_spread=dwell_spread,
         cruise_dwell=cruise_dwell,
         significance_floor=significance_floor,
+        close_pairs=close_modes(modes),
     )
 
 

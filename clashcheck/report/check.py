@@ -7,13 +7,13 @@ margins are fractions, frequencies end in ``_hz``.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterable
 from typing import Any
 
-import math
-
 from ..analysis.clash import ClashResult, ModeResult
 from .common import CAUTIONS, JSON_SCHEMA_VERSION, dump_json, num, pct
+from .frame import close_modes_json, close_modes_lines
 
 __all__ = [
     "reason_data",
@@ -313,6 +313,7 @@ def result_to_dict(result: ClashResult) -> dict[str, Any]:
         },
         "significance_floor": result.significance_floor,
         "hover_rotor_hz": _hover_rotor(result),
+        "close_modes": close_modes_json(result.close_pairs),
         "notes": list(result.notes),
         "cautions": list(CAUTIONS),
     }
@@ -538,6 +539,8 @@ def render_table(result: ClashResult) -> str:
         parts.append("Danger ranges: none between idle and max throttle")
     if hidden:
         parts.append(_hidden_line(hidden))
+    if result.close_pairs:
+        parts += [""] + close_modes_lines(result.close_pairs)
     if result.notes:
         parts += ["", "Notes"] + [f"  - {n}" for n in result.notes]
     parts += ["", _verdict_line(result), ""] + [f"  ! {c}" for c in CAUTIONS]
@@ -571,6 +574,9 @@ def render_markdown(result: ClashResult, extra_sections: Iterable[str] = ()) -> 
         parts += [""] + [f"- {n}" for n in result.notes]
     if result.findings:
         parts += ["", "## Findings", ""] + [f"- **{line}**" for line in _finding_lines(result)]
+    if result.close_pairs:
+        lines = close_modes_lines(result.close_pairs)
+        parts += ["", "## Close modes", ""] + [f"- {line.strip().lstrip('- ')}" for line in lines[1:]]
     parts += ["", "## Modes", "", tabulate(_mode_rows(result), headers=_MODE_HEADERS, tablefmt="github")]
     parts += ["", "Why:", ""] + [f"- {line}" for line in _reason_lines(result)]
     ranges, hidden = _range_rows(result)
