@@ -11,7 +11,7 @@ from __future__ import annotations
 from typing import Any
 
 from ..model.arm import ArmEstimate, ArmGeometry, Material
-from .common import CAUTIONS, JSON_SCHEMA_VERSION
+from .common import CAUTIONS, JSON_SCHEMA_VERSION, cautions_block, text_block
 
 __all__ = ["CAUTIONS", "arm_table", "arm_json"]
 
@@ -95,8 +95,7 @@ def arm_table(estimate: ArmEstimate) -> str:
     methods = sorted({est.method for est in estimate.estimates})
     if methods:
         lines += ["", "Method: " + "; ".join(methods) + "."]
-    lines += ["", "Notes:"] + [f"- {note}" for note in estimate.notes]
-    lines += ["", "Cautions:"] + [f"- {line}" for line in CAUTIONS]
+    lines += text_block("Notes", estimate.notes) + cautions_block()
     return "\n".join(lines)
 
 

@@ -12,7 +12,7 @@ from collections.abc import Iterable
 from typing import Any
 
 from ..analysis.clash import ClashResult, ModeResult
-from .common import CAUTIONS, JSON_SCHEMA_VERSION, dump_json, num, pct
+from .common import CAUTIONS, JSON_SCHEMA_VERSION, cautions_block, dump_json, num, pct, text_block
 from .frame import close_modes_json, close_modes_lines
 
 __all__ = [
@@ -542,8 +542,8 @@ def render_table(result: ClashResult) -> str:
     if result.close_pairs:
         parts += [""] + close_modes_lines(result.close_pairs)
     if result.notes:
-        parts += ["", "Notes"] + [f"  - {n}" for n in result.notes]
-    parts += ["", _verdict_line(result), ""] + [f"  ! {c}" for c in CAUTIONS]
+        parts += text_block("Notes", result.notes)
+    parts += ["", _verdict_line(result)] + cautions_block()
     return "\n".join(parts) + "\n"
 
 
@@ -589,7 +589,7 @@ def render_markdown(result: ClashResult, extra_sections: Iterable[str] = ()) -> 
         parts += ["", _hidden_line(hidden)]
     for section in extra_sections:
         parts += ["", section.strip("\n")]
-    parts += ["", "## Safety", ""] + [f"- {c}" for c in CAUTIONS]
+    parts += ["", "## Cautions", ""] + [f"- {c}" for c in CAUTIONS]
     return "\n".join(parts) + "\n"
 
 

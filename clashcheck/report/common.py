@@ -6,7 +6,8 @@ import json
 import math
 from typing import Any
 
-__all__ = ["CAUTIONS", "JSON_SCHEMA_VERSION", "pct", "dump_json", "num", "rounded"]
+__all__ = ["CAUTIONS", "JSON_SCHEMA_VERSION", "pct", "dump_json", "num", "rounded", "text_block",
+           "cautions_block"]
 
 #: Safety lines printed with results that may lead to hardware work.
 CAUTIONS = (
@@ -106,3 +107,40 @@ def rounded(data: Any, digits: int = 15) -> Any:
     if isinstance(data, (list, tuple)):
         return [rounded(v, digits) for v in data]
     return data
+
+
+def text_block(title: str, items: Any, mark: str = "-") -> list[str]:
+    """A titled list for a text report, in the one heading style of every command.
+
+    Parameters
+    ----------
+    title : str
+        Heading, a capitalised word or two with no colon (``Notes``, ``Warnings``).
+    items : iterable of str
+        The lines; no block at all when there are none.
+    mark : str, optional
+        Bullet mark (``!`` for cautions).
+
+    Returns
+    -------
+    list of str
+        A blank line, the title and one indented line per item; empty without items.
+
+    Examples
+    --------
+    >>> text_block("Notes", ["a", "b"])
+    ['', 'Notes', '  - a', '  - b']
+    """
+    lines = [str(i) for i in items]
+    return ["", title] + [f"  {mark} {line}" for line in lines] if lines else []
+
+
+def cautions_block() -> list[str]:
+    """The safety cautions as a text-report block (heading ``Cautions``, ``!`` marks).
+
+    Returns
+    -------
+    list of str
+        The block's lines.
+    """
+    return text_block("Cautions", CAUTIONS, "!")

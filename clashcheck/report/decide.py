@@ -356,7 +356,7 @@ class _Doc:
         self.lines += [tabulate(rows, headers=headers, tablefmt=self.table_format), ""]
 
     def cautions(self) -> None:
-        self.section("Safety")
+        self.section("Cautions")
         self.bullets(CAUTIONS, mark="!")
 
     def text(self) -> str:

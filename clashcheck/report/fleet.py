@@ -8,7 +8,7 @@ from typing import Any
 from ..analysis.drift import Finding
 from ..fleet.pipeline import AircraftResult, FleetResult, VerdictChange
 from ..fleet.records import ModeRecord
-from .common import CAUTIONS, JSON_SCHEMA_VERSION, dump_json, num
+from .common import CAUTIONS, JSON_SCHEMA_VERSION, cautions_block, dump_json, num
 
 __all__ = ["finding_sentence", "verdict_sentence", "render_table", "render_json", "FEATURE_WORDS"]
 
@@ -138,7 +138,7 @@ def render_table(result: FleetResult) -> str:
     flagged = [ac.id for ac in result.aircraft if ac.flagged]
     lines.append(f"Flagged: {', '.join(flagged) if flagged else 'none'} "
                  f"({len(flagged)} of {len(result.aircraft)} aircraft).")
-    lines += ["", *CAUTIONS]
+    lines += cautions_block()
     return "\n".join(lines) + "\n"
 
 

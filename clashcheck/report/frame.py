@@ -21,7 +21,7 @@ import numpy as np
 from ..analysis.close_modes import ClosePair
 from ..errors import InputError
 from ..model.frame import Calibration, FrameEstimate, FrameMode
-from .common import CAUTIONS, JSON_SCHEMA_VERSION
+from .common import CAUTIONS, JSON_SCHEMA_VERSION, cautions_block, text_block
 
 __all__ = [
     "LEVER_TEXT",
@@ -226,8 +226,7 @@ def frame_table(est: FrameEstimate, pairs: Sequence[ClosePair] = (),
     found = close_modes_lines(pairs)
     if found:
         lines += [""] + found
-    lines += ["", "Notes:"] + [f"- {n}" for n in est.notes]
-    lines += ["", "Cautions:"] + [f"- {c}" for c in CAUTIONS]
+    lines += text_block("Notes", est.notes) + cautions_block()
     return "\n".join(lines) + "\n"
 
 

@@ -19,7 +19,7 @@ from typing import Any
 
 from ..identify.decay import AmplitudeDamping
 from ..identify.result import MeasuredMode, ModesResult
-from .common import CAUTIONS, JSON_SCHEMA_VERSION
+from .common import CAUTIONS, JSON_SCHEMA_VERSION, cautions_block, text_block
 
 __all__ = ["to_json_dict", "render_json", "render_table", "render_toml", "CAUTIONS", "amplitude_fields",
            "amplitude_entries", "AMPLITUDE_KEYS"]
@@ -253,8 +253,8 @@ def render_table(result: ModesResult) -> str:
                                headers=[label, "share of time"], tablefmt="simple",
                                disable_numparse=True)]
     if result.warnings:
-        lines += ["", "warnings:"] + [f"  - {w}" for w in result.warnings]
-    lines += ["", "cautions:"] + [f"  - {c}" for c in CAUTIONS]
+        lines += text_block("Warnings", result.warnings)
+    lines += cautions_block()
     return "\n".join(lines) + "\n"
 
 

@@ -11,7 +11,7 @@ from __future__ import annotations
 from typing import Any
 
 from ..analysis.retest import Change, RetestResult
-from .common import CAUTIONS, JSON_SCHEMA_VERSION, dump_json, num
+from .common import CAUTIONS, JSON_SCHEMA_VERSION, cautions_block, dump_json, num
 
 __all__ = ["retest_to_dict", "render_retest", "RULE"]
 
@@ -127,5 +127,5 @@ def render_retest(result: RetestResult, fmt: str = "table") -> str:
         lines.append("only after (new): " + ", ".join(result.only_after))
     lines += ["", ("verdict: WORSE — " if result.worse else "verdict: not worse — ") + (
         RULE if result.worse else "no mode's damping fell by more than its uncertainty")]
-    lines += ["", "cautions:"] + [f"  - {c}" for c in CAUTIONS]
+    lines += cautions_block()
     return "\n".join(lines) + "\n"
