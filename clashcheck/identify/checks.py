@@ -235,7 +235,32 @@ class Conditioner:
         return self.fs
 
     def feed(self, block: Block) -> Iterator[Run]:
-        """Check one block; yield the clean runs it holds."""
+        """Check one block; yield the clean runs it holds.
+
+        Parameters
+        ----------
+        block : Block
+            The next block of consecutive rows from :meth:`Recording.blocks`,
+            in order. Its ``throttle`` array, when present, is replaced by the
+            throttle as a fraction (0–1).
+
+        Returns
+        -------
+        Iterator[Run]
+            The clean, uniformly sampled runs in the block (resampled onto a
+            uniform grid when the timestamps jitter); ``Run.run`` changes after
+            every gap or missing stretch. Nothing for an empty block.
+
+        Raises
+        ------
+        RecordingError
+            If the timestamps give no sample rate, repeat or go backwards, jitter
+            beyond what resampling can repair, or a throttle value falls outside
+            the range of the throttle unit taken from the first rows.
+        InputError
+            If the throttle unit is not stated and cannot be told from the
+            values (field ``throttle_unit``).
+        """
         n = block.signals.shape[0]
         self._rows_read += n
         if n == 0:
@@ -802,6 +827,20 @@ def require_sample_rate(path: str, sample_rate_hz: float, max_freq_hz: float) ->
     """Refuse a sample rate too low for the highest mode asked about.
 
     Frequencies up to :data:`USABLE_BAND` × fs are analysed.
+
+    Parameters
+    ----------
+    path : str
+        The recording (for the message).
+    sample_rate_hz : float
+        Sample rate of the recording [Hz].
+    max_freq_hz : float
+        Highest mode frequency asked about [Hz].
+
+    Returns
+    -------
+    None
+        Returns only when the rate suffices.
 
     Raises
     ------

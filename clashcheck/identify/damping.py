@@ -250,10 +250,25 @@ def half_power_raw(
     response's peak at the measured peak (Rao §3.4); the equation is solved
     by fixed-point iteration.
 
+    Parameters
+    ----------
+    freq_hz : ndarray
+        Evenly spaced frequencies [Hz].
+    power : ndarray
+        Power spectrum (any units of power, i.e. amplitude squared), one value
+        per frequency.
+    peak_index : int
+        Index of the peak bin.
+    level : float
+        Fraction of the peak power at which the width is read; 0.5 for half
+        power. The width is used as is, with no correction for other levels.
+
     Returns
     -------
     float or None
-        ``None`` when the half-power points are not both found.
+        The damping ratio ζ [-] (fraction of critical), raw: no correction for
+        the window or the bin width. ``None`` when the half-power points are
+        not both found.
 
     Examples
     --------

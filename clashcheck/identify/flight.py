@@ -177,10 +177,22 @@ def order_families(blades: int | None, poles: int | None,
     (REFERENCES.md §4).  Without blades or poles the orders 1–8 are measured,
     order 1 as ``rotor`` and the others as ``custom``.
 
+    Parameters
+    ----------
+    blades : int or None
+        Blades per propeller, or ``None`` when unknown.
+    poles : int or None
+        Magnet poles of the motor, or ``None`` when unknown.
+    slots : int or None
+        Stator slots of the motor, or ``None`` when unknown; used only with
+        ``poles`` (for the cogging order).
+
     Returns
     -------
     orders : dict
-        Order → family.
+        Order (multiple of the rotor rate [-]) → family, sorted by order. When
+        two families share an order, the later in the list above is kept.
+        Orders 1–8 only when both ``blades`` and ``poles`` are ``None``.
     notes : list of str
         Sentences about shared or unknown families.
 

@@ -170,6 +170,25 @@ class Recording:
 
         With ``prefetch`` (CSV only) a background thread parses the next blocks
         while the caller works on this one; at most :data:`PREFETCH` blocks wait.
+
+        Parameters
+        ----------
+        block_rows : int
+            Most data rows per block [rows]; :data:`BLOCK_ROWS` by default.
+        prefetch : bool
+            Parse ahead in a background thread (CSV only; ignored for WAV and
+            .npy).
+
+        Returns
+        -------
+        Iterator[Block]
+            The blocks in file order, each as plain float64 arrays.
+
+        Raises
+        ------
+        RecordingError
+            While iterating, when the file turns out malformed or unreadable
+            (the error names the row or byte).
         """
         if prefetch and self.format == "csv":
             return _prefetched(self._blocks(block_rows))

@@ -86,6 +86,16 @@ def hann_periodic(n: int) -> np.ndarray:
     by :func:`scipy.signal.welch`), written out so that streaming spectra need
     no scipy import.
 
+    Parameters
+    ----------
+    n : int
+        Window length [samples].
+
+    Returns
+    -------
+    ndarray
+        The ``n`` window weights (float64, from 0 up to 1 at ``n/2``).
+
     Examples
     --------
     >>> hann_periodic(4).tolist()
@@ -99,6 +109,19 @@ def segment_length(sample_rate_hz: float, resolution_hz: float) -> int:
 
     The length is rounded up to an even number of samples so that the FFT
     has a Nyquist bin.  The resolution is the bin spacing fs/nperseg.
+
+    Parameters
+    ----------
+    sample_rate_hz : float
+        Sample rate [Hz].
+    resolution_hz : float
+        Requested bin spacing [Hz], greater than 0.
+
+    Returns
+    -------
+    int
+        Segment length [samples], even, with fs/length no coarser than
+        ``resolution_hz``.
 
     Examples
     --------
@@ -265,7 +288,20 @@ class WelchAverage:
         self.count = 0
 
     def add(self, psd: np.ndarray) -> None:
-        """Add periodograms of shape (segments, channels, frequencies)."""
+        """Add periodograms of shape (segments, channels, frequencies).
+
+        Parameters
+        ----------
+        psd : ndarray
+            Periodograms, shape (segments, channels, frequencies)
+            [units²/Hz]; every call must have the same channels and
+            frequencies.
+
+        Returns
+        -------
+        None
+            The running sum and :attr:`count` (segments added) are updated.
+        """
         s = psd.sum(axis=0)
         self._sum = s if self._sum is None else self._sum + s
         self.count += psd.shape[0]

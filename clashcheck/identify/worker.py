@@ -76,6 +76,22 @@ def wanted(recording: Any, settings: Any) -> bool:
 
     ``CLASHCHECK_WORKER=off`` (or ``0``) never starts one; ``on`` starts one
     whatever the file's length and the number of CPUs (for tests and timing).
+
+    Parameters
+    ----------
+    recording : Recording
+        The opened recording; without ``columns`` (the choice it was opened
+        with) no child can open it again, and none is started.
+    settings : object
+        The analysis settings (e.g. ``FlightSettings``) to send to the child;
+        they must pickle.
+
+    Returns
+    -------
+    bool
+        True when the switch allows it and the file is long enough with two or
+        more CPUs (or the switch is ``on``), and the column choice and
+        settings pickle; else False.
     """
     if getattr(recording, "columns", None) is None or not _file_wanted(recording.path):
         return False
@@ -96,6 +112,20 @@ def warm_up(path: str | os.PathLike[str]) -> None:
     The command line calls this first thing, so the child's own start-up (Python,
     numpy, and pandas for a CSV) overlaps the parent's loading of the build file.
     The child waits for its request; if none comes it ends when this process does.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The recording that will probably be analysed. A child is started only
+        when none is waiting yet and the file passes the switch, length and
+        CPU checks of :func:`wanted`; a CSV (``.csv``, ``.txt``, ``.tsv``)
+        child preloads its reader.
+
+    Returns
+    -------
+    None
+        The child, if started, is kept until a request takes it or this
+        process ends.
     """
     global _spare
     text = os.fspath(path)
@@ -204,6 +234,13 @@ class Child:
 
     def result(self, progress: Callable[[int, int], None] | None = None) -> Any:
         """Wait for the child's totals, passing its progress on.
+
+        Parameters
+        ----------
+        progress : callable or None
+            Called as ``progress(rows_done, rows_total)`` [rows] for each
+            progress message from the child; ``rows_total`` is the recording's
+            row estimate. ``None`` ignores progress.
 
         Returns
         -------

@@ -34,7 +34,29 @@ def _path(where: str, key: str) -> str:
 
 
 def check_keys(raw: Mapping[str, Any], allowed: Iterable[str], where: str) -> None:
-    """Refuse keys that are not in ``allowed``, with a "did you mean" hint."""
+    """Refuse keys that are not in ``allowed``, with a "did you mean" hint.
+
+    Parameters
+    ----------
+    raw : Mapping
+        The raw table as read from TOML; it is not modified.
+    allowed : Iterable of str
+        The known keys.
+    where : str
+        Dotted path of ``raw`` for messages (``""`` at the top level), e.g.
+        ``"motor"``.
+
+    Returns
+    -------
+    None
+        Returns only when every key is known.
+
+    Raises
+    ------
+    InputError
+        For the first unknown key, named ``where.key``, with the closest
+        known key as a hint, or else the known keys (the first eight).
+    """
     allowed = list(allowed)
     for key in raw:
         if key not in allowed:
@@ -45,7 +67,31 @@ def check_keys(raw: Mapping[str, Any], allowed: Iterable[str], where: str) -> No
 
 
 def table(raw: Mapping[str, Any], key: str, where: str, *, required: bool = False) -> dict[str, Any] | None:
-    """A sub-table, or ``None`` when absent and not required."""
+    """A sub-table, or ``None`` when absent and not required.
+
+    Parameters
+    ----------
+    raw : Mapping
+        The raw table as read from TOML; it is not modified.
+    key : str
+        The key to read in ``raw``.
+    where : str
+        Dotted path of ``raw`` for messages (``""`` at the top level), e.g.
+        ``"motor"``; the field is named ``where.key``.
+    required : bool
+        Refuse a missing table instead of returning ``None``.
+
+    Returns
+    -------
+    dict or None
+        The sub-table itself (not a copy), or ``None`` when absent and not
+        required.
+
+    Raises
+    ------
+    InputError
+        If the value is not a table, or it is missing and ``required``.
+    """
     value = raw.get(key, MISSING)
     if value is MISSING:
         if required:
@@ -57,7 +103,29 @@ def table(raw: Mapping[str, Any], key: str, where: str, *, required: bool = Fals
 
 
 def tables(raw: Mapping[str, Any], key: str, where: str) -> list[dict[str, Any]]:
-    """An array of tables (``[[key]]``); empty when absent."""
+    """An array of tables (``[[key]]``); empty when absent.
+
+    Parameters
+    ----------
+    raw : Mapping
+        The raw table as read from TOML; it is not modified.
+    key : str
+        The key to read in ``raw``.
+    where : str
+        Dotted path of ``raw`` for messages (``""`` at the top level), e.g.
+        ``"motor"``; the field is named ``where.key``.
+
+    Returns
+    -------
+    list of dict
+        The tables in file order (the list itself, not a copy); an empty list
+        when the key is absent.
+
+    Raises
+    ------
+    InputError
+        If the value is not a list whose items are all tables.
+    """
     value = raw.get(key, MISSING)
     if value is MISSING:
         return []
@@ -84,6 +152,48 @@ def quantity(
 
     ``minimum``/``maximum`` are in SI.  ``range_text`` describes the range in
     the user's units for the message, e.g. ``"from 0 % to 100 %"``.
+
+    Parameters
+    ----------
+    raw : Mapping
+        The raw table as read from TOML; it is not modified.
+    key : str
+        The key to read in ``raw``.
+    where : str
+        Dotted path of ``raw`` for messages (``""`` at the top level), e.g.
+        ``"motor"``; the field is named ``where.key``.
+    unit : str
+        The unit the field is expressed in, e.g. ``"rpm/V"``; the value must
+        have its dimension (see :func:`~clashcheck.inputs.units.parse`).
+    example : str
+        An example value for messages, e.g. ``"1950 rpm/V"``.
+    required : bool
+        Refuse a missing value instead of returning ``default``.
+    default : float or None
+        Returned as is when the key is absent and not required [SI].
+    minimum : float or None
+        Lowest allowed value [SI base units of ``unit``'s dimension], or
+        ``None`` for no lower bound.
+    maximum : float or None
+        Highest allowed value (inclusive) [SI base units of ``unit``'s
+        dimension], or ``None`` for no upper bound.
+    exclusive_minimum : bool
+        Refuse a value equal to ``minimum`` too.
+    range_text : str
+        The allowed range in the user's units, for the message; when empty
+        the message shows ``example`` instead.
+
+    Returns
+    -------
+    float or None
+        The value in SI base units (rotation counted in cycles), or
+        ``default`` when absent and not required.
+
+    Raises
+    ------
+    InputError
+        If the value is missing and ``required``, cannot be parsed with the
+        unit's dimension, or lies outside the range.
     """
     field = _path(where, key)
     value = raw.get(key, MISSING)
@@ -110,7 +220,40 @@ def count(
     default: int | None = None,
     what: str = "a whole number",
 ) -> int | None:
-    """A bare whole number (TOML integer)."""
+    """A bare whole number (TOML integer).
+
+    Parameters
+    ----------
+    raw : Mapping
+        The raw table as read from TOML; it is not modified.
+    key : str
+        The key to read in ``raw``.
+    where : str
+        Dotted path of ``raw`` for messages (``""`` at the top level), e.g.
+        ``"motor"``; the field is named ``where.key``.
+    minimum : int
+        Lowest allowed value (inclusive).
+    maximum : int
+        Highest allowed value (inclusive).
+    required : bool
+        Refuse a missing value instead of returning ``default``.
+    default : int or None
+        Returned as is when the key is absent and not required.
+    what : str
+        What the number is, for the message, e.g. ``"an arm count"``.
+
+    Returns
+    -------
+    int or None
+        The number, or ``default`` when absent and not required.
+
+    Raises
+    ------
+    InputError
+        If the value is missing and ``required``, is not a TOML integer
+        (booleans and strings are refused), or lies outside
+        ``minimum``–``maximum``.
+    """
     field = _path(where, key)
     value = raw.get(key, MISSING)
     if value is MISSING:
@@ -137,7 +280,44 @@ def ratio(
     default: float | None = None,
     what: str = "a ratio",
 ) -> float | None:
-    """A bare number (TOML integer or float) within a range."""
+    """A bare number (TOML integer or float) within a range.
+
+    Parameters
+    ----------
+    raw : Mapping
+        The raw table as read from TOML; it is not modified.
+    key : str
+        The key to read in ``raw``.
+    where : str
+        Dotted path of ``raw`` for messages (``""`` at the top level), e.g.
+        ``"motor"``; the field is named ``where.key``.
+    low : float
+        Lower end of the range [-].
+    high : float
+        Upper end of the range [-].
+    open_low : bool
+        Exclude ``low`` itself.
+    open_high : bool
+        Exclude ``high`` itself.
+    required : bool
+        Refuse a missing value instead of returning ``default``.
+    default : float or None
+        Returned as is when the key is absent and not required.
+    what : str
+        What the number is, for the message.
+
+    Returns
+    -------
+    float or None
+        The number as a float, or ``default`` when absent and not required.
+
+    Raises
+    ------
+    InputError
+        If the value is missing and ``required``, is not a bare number
+        (booleans and strings are refused), is not finite, or lies outside
+        the range.
+    """
     field = _path(where, key)
     value = raw.get(key, MISSING)
     lo_sym, hi_sym = ("(" if open_low else "["), (")" if open_high else "]")
@@ -159,7 +339,35 @@ def text(
     raw: Mapping[str, Any], key: str, where: str, *, required: bool = False, default: str | None = None,
     max_length: int = 200,
 ) -> str | None:
-    """A free-text string."""
+    """A free-text string.
+
+    Parameters
+    ----------
+    raw : Mapping
+        The raw table as read from TOML; it is not modified.
+    key : str
+        The key to read in ``raw``.
+    where : str
+        Dotted path of ``raw`` for messages (``""`` at the top level), e.g.
+        ``"motor"``; the field is named ``where.key``.
+    required : bool
+        Refuse a missing value instead of returning ``default``.
+    default : str or None
+        Returned as is when the key is absent and not required.
+    max_length : int
+        Longest allowed text [characters].
+
+    Returns
+    -------
+    str or None
+        The text as written, or ``default`` when absent and not required.
+
+    Raises
+    ------
+    InputError
+        If the value is missing and ``required``, is not a string, or is
+        longer than ``max_length``.
+    """
     field = _path(where, key)
     value = raw.get(key, MISSING)
     if value is MISSING:
@@ -177,7 +385,35 @@ def choice(
     raw: Mapping[str, Any], key: str, where: str, options: Iterable[str], *, default: str | None = None,
     required: bool = False,
 ) -> str | None:
-    """One of a fixed set of words."""
+    """One of a fixed set of words.
+
+    Parameters
+    ----------
+    raw : Mapping
+        The raw table as read from TOML; it is not modified.
+    key : str
+        The key to read in ``raw``.
+    where : str
+        Dotted path of ``raw`` for messages (``""`` at the top level), e.g.
+        ``"motor"``; the field is named ``where.key``.
+    options : Iterable of str
+        The allowed words.
+    default : str or None
+        Returned as is when the key is absent and not required.
+    required : bool
+        Refuse a missing value instead of returning ``default``.
+
+    Returns
+    -------
+    str or None
+        The word, or ``default`` when absent and not required.
+
+    Raises
+    ------
+    InputError
+        If the value is missing and ``required``, or is not one of
+        ``options`` (with the closest option as a hint).
+    """
     options = list(options)
     field = _path(where, key)
     value = raw.get(key, MISSING)
@@ -196,7 +432,33 @@ def choice(
 def choices(
     raw: Mapping[str, Any], key: str, where: str, options: Iterable[str], *, default: tuple[str, ...]
 ) -> tuple[str, ...]:
-    """A list of words from a fixed set, without repeats."""
+    """A list of words from a fixed set, without repeats.
+
+    Parameters
+    ----------
+    raw : Mapping
+        The raw table as read from TOML; it is not modified.
+    key : str
+        The key to read in ``raw``.
+    where : str
+        Dotted path of ``raw`` for messages (``""`` at the top level), e.g.
+        ``"motor"``; the field is named ``where.key``.
+    options : Iterable of str
+        The allowed words.
+    default : tuple of str
+        Returned as is when the key is absent.
+
+    Returns
+    -------
+    tuple of str
+        The words in the order written, repeats dropped (not refused); or
+        ``default`` when absent.
+
+    Raises
+    ------
+    InputError
+        If the value is not a list, or an item is not one of ``options``.
+    """
     options = list(options)
     field = _path(where, key)
     value = raw.get(key, MISSING)

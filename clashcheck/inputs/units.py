@@ -347,7 +347,32 @@ def parse(text: object, unit: str, field: str, *, example: str | None = None) ->
 def parse_optional(
     text: object, unit: str, field: str, *, example: str | None = None
 ) -> float | None:
-    """Like :func:`parse`, but ``None`` (or :data:`~clashcheck.errors.MISSING`) passes through."""
+    """Like :func:`parse`, but ``None`` (or :data:`~clashcheck.errors.MISSING`) passes through.
+
+    Parameters
+    ----------
+    text : str or None
+        The value as written, e.g. ``"1750 rpm/V"``, or ``None`` /
+        ``MISSING`` when not given.
+    unit : str
+        The unit the field is expressed in; the value must have the same
+        dimension.
+    field : str
+        Dotted path for error messages, e.g. ``"motor.kv"``.
+    example : str, optional
+        An example value for the error message; defaults to ``"1 <unit>"``.
+
+    Returns
+    -------
+    float or None
+        The value in SI base units (rotation counted in cycles), or ``None``
+        when ``text`` is ``None`` or ``MISSING``.
+
+    Raises
+    ------
+    InputError
+        As :func:`parse`, for any other ``text`` it refuses.
+    """
     if text is None or text is MISSING:
         return None
     return parse(text, unit, field, example=example)
@@ -355,6 +380,27 @@ def parse_optional(
 
 def to_unit(value_si: float, unit: str) -> float:
     """Express an SI value in ``unit`` (the inverse of :func:`parse`'s scaling).
+
+    Parameters
+    ----------
+    value_si : float
+        The value [SI base units, rotation counted in cycles].
+    unit : str
+        The unit to express it in, e.g. ``"in"`` or ``"rpm"``. Its dimension
+        is not checked against the value's: the caller picks a unit of the
+        right dimension.
+
+    Returns
+    -------
+    float
+        The value in ``unit``.
+
+    Raises
+    ------
+    KeyError
+        If pint does not know a name in ``unit``.
+    ValueError
+        If ``unit`` carries an offset (such as degC).
 
     Examples
     --------

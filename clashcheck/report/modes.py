@@ -37,6 +37,21 @@ def amplitude_fields(a: AmplitudeDamping | None) -> dict[str, Any]:
     signal as read); the ``_rec`` suffix says so.  Every key is present; the
     values are ``None`` when the decay could not be followed.
 
+    Parameters
+    ----------
+    a : AmplitudeDamping or None
+        How the mode's damping depends on its amplitude (from a tap test), or
+        ``None`` when the decay could not be followed.
+
+    Returns
+    -------
+    dict
+        Each of :data:`AMPLITUDE_KEYS` → its value: the decay kind and model
+        name as text, damping ratios ζ [-] rounded to 6 decimals (the
+        exponent to 4), amplitudes and friction drops [recording's signal
+        units] to 6 significant figures, the number of taps combined and
+        whether they were alike; all ``None`` when ``a`` is ``None``.
+
     Examples
     --------
     >>> sorted(amplitude_fields(None))[:3]
