@@ -33,6 +33,7 @@ from clashcheck.model.excitation import Sensor, build_orders, fold
 from clashcheck.model.modes import MarginPolicy, Mode, relative_margin
 from clashcheck.model.motor import Motor
 from clashcheck.model.propeller import Propeller
+from clashcheck.report.check import note_texts
 
 PROPS = settings(max_examples=80, deadline=None, derandomize=True)
 LIPO = Chemistry("lipo", 4.20, 3.70, 3.50)
@@ -339,13 +340,13 @@ def test_unknown_hover_starts_the_band_at_idle():
     drive = make_drive(ct=None)
     result = _result([Mode("a", 186.0, damping=0.03)], drive=drive)
     assert all(b.throttle_low == 0.04 for b in result.bands)
-    assert any("hover is unknown" in n for n in result.notes)
+    assert any("hover is unknown" in n for n in note_texts(result))
 
 
 def test_assumed_damping_is_reported():
     result = _result([Mode("a", 186.0)])
     assert result.modes[0].damping_assumed
-    assert any("damping assumed" in n and "a" in n for n in result.notes)
+    assert any("damping assumed" in n and "a" in n for n in note_texts(result))
 
 
 def test_a_damping_upper_bound_is_named_with_the_value_used():
@@ -354,8 +355,8 @@ def test_a_damping_upper_bound_is_named_with_the_value_used():
     result = _result([Mode("a", 186.0), bounded])
     used = {m.mode.name: m.damping for m in result.modes}
     assert used["narrow"] == 0.004
-    assert not any("damping assumed" in n and "narrow" in n for n in result.notes)
-    assert any("narrow" in n and "0.004" in n for n in result.notes)
+    assert not any("damping assumed" in n and "narrow" in n for n in note_texts(result))
+    assert any("narrow" in n and "0.004" in n for n in note_texts(result))
 
 
 def test_weak_aliased_windows_fall_below_the_floor():
@@ -364,7 +365,7 @@ def test_weak_aliased_windows_fall_below_the_floor():
     result = _result([Mode("a", 186.0, damping=0.03)], families=("commutation", "cogging"), sensor=sensor,
                      weight_floor=0.02)
     assert all(w.weight >= 0.02 for w in result.windows if w.aliased)
-    assert any("aliased window(s) left out" in n for n in result.notes)
+    assert any("aliased window(s) left out" in n for n in note_texts(result))
     unfiltered = _result([Mode("a", 186.0, damping=0.03)], families=("commutation", "cogging"),
                          sensor=Sensor(2000.0))
     assert any(w.aliased for w in unfiltered.windows)
@@ -407,7 +408,7 @@ def test_note_when_rotor_rate_peaks_before_max_throttle():
     grid = np.linspace(build.flight.idle, build.flight.max, 200)
     rate = drive.rotor_hz(grid, "full")
     assert np.any(np.diff(rate) < 0)  # the premise: the rate does fall somewhere
-    notes = check_build(build).notes
+    notes = note_texts(check_build(build))
     assert any("peaks at" in n and "full pack" in n and "both sides" in n for n in notes)
 
 

@@ -25,6 +25,7 @@ import pytest
 
 from clashcheck.analysis.clash import check_build
 from clashcheck.inputs.buildfile import parse_build
+from clashcheck.report.check import note_texts
 
 scipy_optimize = pytest.importorskip("scipy.optimize")
 
@@ -171,4 +172,4 @@ def test_alias_images_are_sought_up_to_the_peak_rate(case):
 
 def test_note_names_the_peak(case):
     build, _p, _v = case
-    assert any("peaks at" in n and "both sides" in n for n in check_build(build).notes)
+    assert any("peaks at" in n and "both sides" in n for n in note_texts(check_build(build)))

@@ -69,6 +69,7 @@ __all__ = [
     "FAIL_LEVELS",
     "LIES_IN",
     "CheckFinding",
+    "CheckNote",
     "Window",
     "DangerRange",
     "MarginAt",
@@ -266,6 +267,36 @@ class CheckFinding:
 
 
 @dataclass(frozen=True)
+class CheckNote:
+    """A fact about how the check was run (data only; ``report.check.note_text`` words it).
+
+    ``kind`` is one of ``"given"`` (a note handed in with the build, kept as
+    written in ``text``), ``"hover_unknown"``, ``"hover_above_cruise"``
+    (``pack_state``, ``value`` = hover, ``other`` = cruise throttle),
+    ``"rotor_peak"`` (``pack_state``, ``value`` = peak rotor rate [Hz],
+    ``other`` = its throttle), ``"damping_default"`` (``names``, ``value`` =
+    the default ζ), ``"damping_bound"`` (``names`` = one mode, ``value`` = the
+    bound used, ``other`` = the default ζ) and ``"aliased_left_out"``
+    (``count``, ``value`` = the weight floor).
+    """
+
+    #: What the note says, as a code.
+    kind: str
+    #: Pack state it concerns, if one.
+    pack_state: str | None = None
+    #: Its main figure (unit by kind).
+    value: float | None = None
+    #: A second figure (unit by kind).
+    other: float | None = None
+    #: Mode names it concerns.
+    names: tuple[str, ...] = ()
+    #: A count (windows left out).
+    count: int = 0
+    #: The note's words, for ``"given"`` only (notes made by the inputs layer).
+    text: str = ""
+
+
+@dataclass(frozen=True)
 class ClashResult:
     """The outcome of a clash check."""
 
@@ -296,7 +327,7 @@ class ClashResult:
     #: Rotor rate at idle and at max per pack state [Hz].
     rotor_range_hz: dict[str, tuple[float, float]] = field(default_factory=dict)
     #: Findings and assumptions, one sentence each.
-    notes: tuple[str, ...] = ()
+    notes: tuple[CheckNote, ...] = ()
     #: Findings that are not windows (cannot hover), each at its level.
     findings: tuple[CheckFinding, ...] = ()
     #: Where the dwell zones come from: ``"default"`` (hover ± spread, cruise when
@@ -787,41 +818,25 @@ def analyse(
         CheckFinding("cannot_hover", "clash", b.pack_state, b.hover.throttle)
         for b in bands if b.hover.how != "unknown" and not b.hover.can_hover
     )
-    found_notes = list(notes)
-    for b in bands:
-        if b.hover.how == "unknown":
-            found_notes.append(
-                "hover is unknown (no prop.thrust_coefficient and no flight.hover): "
-                "the operating band is taken from idle, and all of it counts as dwell"
-            )
-            break
+    found_notes = [CheckNote("given", text=str(n)) for n in notes]
+    if any(b.hover.how == "unknown" for b in bands):
+        found_notes.append(CheckNote("hover_unknown"))
     for b in bands:
         if b.hover.how != "unknown" and not b.hover.can_hover:
             continue  # a finding of its own (findings[])
         elif b.flies and b.hover.how != "unknown" and b.hover.throttle > cruise:
-            found_notes.append(
-                f"hover ({100 * b.hover.throttle:.0f} %) sits above cruise ({100 * cruise:.0f} %) "
-                f"at the {b.pack_state} pack"
-            )
+            found_notes.append(CheckNote("hover_above_cruise", b.pack_state, b.hover.throttle, cruise))
     for state in pack_states:  # past the pack's maximum-power point the rate falls with throttle
         peak_hz, peak_d = _peak(drive, state, throttle_max)
         if idle < peak_d < throttle_max:
-            found_notes.append(
-                f"at the {state} pack the rotor rate peaks at {float(peak_hz):.1f} Hz near "
-                f"{100 * float(peak_d):.0f} % throttle (pack sag wins above it); windows are found on both sides"
-            )
-    defaulted = [m.name for m in modes if m.damping is None and policy.damping_of(m)[0] == policy.default_damping]
-    bounded = [(m.name, policy.damping_of(m)[0]) for m in modes
-               if m.damping is None and policy.damping_of(m)[0] != policy.default_damping]
-    if defaulted:  # the note names the ζ each mode is checked with, as the table shows it
-        found_notes.append(
-            f"damping assumed at ζ = {policy.default_damping:g} for: " + ", ".join(defaulted)
-        )
-    for name, bound in bounded:
-        found_notes.append(
-            f"damping of {name} taken at its measured upper bound ζ = {bound:.4g} (below the default "
-            f"{policy.default_damping:g}; less damping asks for more margin)"
-        )
+            found_notes.append(CheckNote("rotor_peak", state, float(peak_hz), float(peak_d)))
+    used = {m.name: policy.damping_of(m)[0] for m in modes if m.damping is None}
+    defaulted = tuple(name for name, z in used.items() if z == policy.default_damping)
+    if defaulted:  # each mode's note names the ζ it is checked with, as the table shows it
+        found_notes.append(CheckNote("damping_default", value=policy.default_damping, names=defaulted))
+    for name, z in used.items():
+        if z != policy.default_damping:
+            found_notes.append(CheckNote("damping_bound", value=z, other=policy.default_damping, names=(name,)))
 
     all_windows: list[Window] = []
     mode_results = []
@@ -873,10 +888,7 @@ def analyse(
             )
         )
     if faint:
-        found_notes.append(
-            f"{faint} aliased window(s) left out: their weight after the anti-alias filter is "
-            f"below the floor of {weight_floor:g}"
-        )
+        found_notes.append(CheckNote("aliased_left_out", value=weight_floor, count=faint))
     for finding in findings:
         verdict = worse_verdict(verdict, finding.level)
     all_windows.sort(key=lambda w: (-LEVEL_CODES[w.level], not w.touches_operating_band, -w.severity,

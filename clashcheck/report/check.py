@@ -11,8 +11,16 @@ import math
 from collections.abc import Iterable
 from typing import Any
 
-from ..analysis.clash import ClashResult, ModeResult
-from .common import CAUTIONS, JSON_SCHEMA_VERSION, cautions_block, dump_json, num, pct, text_block
+from ..analysis.clash import CheckNote, ClashResult, ModeResult
+from .common import (
+    CAUTIONS,
+    JSON_SCHEMA_VERSION,
+    cautions_block,
+    dump_json,
+    num,
+    pct,
+    text_block,
+)
 from .frame import close_modes_json, close_modes_lines
 
 __all__ = [
@@ -24,6 +32,8 @@ __all__ = [
     "render_table",
     "render_markdown",
     "render",
+    "note_text",
+    "note_texts",
 ]
 
 
@@ -314,7 +324,7 @@ def result_to_dict(result: ClashResult) -> dict[str, Any]:
         "significance_floor": result.significance_floor,
         "hover_rotor_hz": _hover_rotor(result),
         "close_modes": close_modes_json(result.close_pairs),
-        "notes": list(result.notes),
+        "notes": note_texts(result),
         "cautions": list(CAUTIONS),
     }
 
@@ -502,6 +512,56 @@ def _verdict_line(result: ClashResult) -> str:
     return "verdict: CLEAR — no window of a significant order between idle and max throttle"
 
 
+def note_text(note: CheckNote) -> str:
+    """The sentence for a check note.
+
+    Parameters
+    ----------
+    note : CheckNote
+        A note of :attr:`ClashResult.notes`.
+
+    Returns
+    -------
+    str
+        The note in words.
+    """
+    k = note.kind
+    if k == "hover_unknown":
+        return ("hover is unknown (no prop.thrust_coefficient and no flight.hover): "
+                "the operating band is taken from idle, and all of it counts as dwell")
+    if k == "hover_above_cruise":
+        return (f"hover ({100 * (note.value or 0):.0f} %) sits above cruise ({100 * (note.other or 0):.0f} %) "
+                f"at the {note.pack_state} pack")
+    if k == "rotor_peak":
+        return (f"at the {note.pack_state} pack the rotor rate peaks at {note.value:.1f} Hz near "
+                f"{100 * (note.other or 0):.0f} % throttle (pack sag wins above it); windows are found on both sides")
+    if k == "damping_default":
+        return f"damping assumed at ζ = {note.value:g} for: " + ", ".join(note.names)
+    if k == "damping_bound":
+        return (f"damping of {note.names[0]} taken at its measured upper bound ζ = {note.value:.4g} (below the "
+                f"default {note.other:g}; less damping asks for more margin)")
+    if k == "aliased_left_out":
+        return (f"{note.count} aliased window(s) left out: their weight after the anti-alias filter is "
+                f"below the floor of {note.value:g}")
+    return note.text
+
+
+def note_texts(result: ClashResult) -> list[str]:
+    """Every note of a check, in words.
+
+    Parameters
+    ----------
+    result : ClashResult
+        The result of a clash check.
+
+    Returns
+    -------
+    list of str
+        One sentence per note, in order.
+    """
+    return [note_text(n) for n in result.notes]
+
+
 def _finding_lines(result: ClashResult) -> list[str]:
     return [f"{f.level.upper()}: {finding_text(f.kind, f.pack_state, f.hover_throttle)}" for f in result.findings]
 
@@ -542,7 +602,7 @@ def render_table(result: ClashResult) -> str:
     if result.close_pairs:
         parts += [""] + close_modes_lines(result.close_pairs)
     if result.notes:
-        parts += text_block("Notes", result.notes)
+        parts += text_block("Notes", note_texts(result))
     parts += ["", _verdict_line(result)] + cautions_block()
     return "\n".join(parts) + "\n"
 
@@ -571,7 +631,7 @@ def render_markdown(result: ClashResult, extra_sections: Iterable[str] = ()) -> 
     parts = [f"# Clash check: {result.name}", "", f"**{_verdict_line(result)}**", "", "## Build and assumptions", ""]
     parts.append(tabulate(_header_rows(result), headers=["item", "value"], tablefmt="github"))
     if result.notes:
-        parts += [""] + [f"- {n}" for n in result.notes]
+        parts += [""] + [f"- {n}" for n in note_texts(result)]
     if result.findings:
         parts += ["", "## Findings", ""] + [f"- **{line}**" for line in _finding_lines(result)]
     if result.close_pairs:
