@@ -16,7 +16,6 @@ import sys
 import tomllib
 from pathlib import Path
 from dataclasses import replace
-from pathlib import Path
 
 import numpy as np
 import pytest

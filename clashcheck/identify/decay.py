@@ -63,6 +63,7 @@ if TYPE_CHECKING:
 
 __all__ = [
     "AmplitudeDamping",
+    "isolation_bands",
     "ModelFit",
     "DecayCheck",
     "DECAY_KINDS",
@@ -593,8 +594,21 @@ def analyse_mode_decay(segments: np.ndarray, sample_rate_hz: float, freq_hz: flo
     )
 
 
-def _bands(freqs_hz: Sequence[float], nyquist_hz: float) -> list[tuple[float, float]]:
-    """Pass band of each mode: half-way to its neighbours, at most ±30 %."""
+def isolation_bands(freqs_hz: Sequence[float], nyquist_hz: float) -> list[tuple[float, float]]:
+    """Pass band that isolates each mode: half-way to its neighbours, at most ±30 %.
+
+    Parameters
+    ----------
+    freqs_hz : sequence of float
+        The modes' frequencies [Hz], in any order.
+    nyquist_hz : float
+        Half the sample rate [Hz]; bands stop below it.
+
+    Returns
+    -------
+    list of (float, float)
+        (low, high) pass band [Hz] of each mode, in the given order.
+    """
     f = np.asarray(freqs_hz, dtype=float)
     order = np.argsort(f)
     bands: list[tuple[float, float]] = [(0.0, 0.0)] * len(f)
@@ -640,7 +654,7 @@ def analyse_decays(signal_x: np.ndarray, sample_rate_hz: float, onsets: Sequence
     segs = np.stack([x[o - pre:o - pre + length] for o in on if o - pre >= 0 and o - pre + length <= x.size])
     lead = x[: max(0, int(on[0]) - pre)]
     out: list[AmplitudeDamping | None] = []
-    for f, band in zip(freqs_hz, _bands(freqs_hz, 0.5 * sample_rate_hz)):
+    for f, band in zip(freqs_hz, isolation_bands(freqs_hz, 0.5 * sample_rate_hz)):
         try:
             out.append(analyse_mode_decay(segs, sample_rate_hz, float(f), band, pre,
                                           lead if lead.size else None))

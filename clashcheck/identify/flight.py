@@ -41,6 +41,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..model.modes import MODE_AXES
+from .band import check_band
 from .checks import (
     USABLE_BAND,
     Conditioner,
@@ -57,7 +58,6 @@ from .damping import (
 from .flight_fit import LEVEL, fit_band
 from .peaks import find_modes_peaks, noise_floor
 from .readers import Recording
-from .band import check_band
 from .result import Dwell, MeasuredMode, ModesResult, OrderStrength
 from .spectra import SegmentStream, hann_periodic, segment_length
 from .views import Timeline, flight_view

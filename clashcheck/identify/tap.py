@@ -822,10 +822,10 @@ def _amplitude_dependent(free: np.ndarray, fs: float, freq_hz: float, skip: int)
     makes the half-power and decay-fit dampings disagree; it is one mode, and
     the two-mode split is not tried for it.
     """
-    from .decay import _bands, analyse_mode_decay
+    from .decay import analyse_mode_decay, isolation_bands
 
     try:
-        found = analyse_mode_decay(free, fs, freq_hz, _bands([freq_hz], 0.5 * fs)[0], skip)
+        found = analyse_mode_decay(free, fs, freq_hz, isolation_bands([freq_hz], 0.5 * fs)[0], skip)
     except (ValueError, np.linalg.LinAlgError):
         return False
     return found is not None and found.decay in ("friction", "mixed")

@@ -235,7 +235,7 @@ def decay_views(view: TapView, modes) -> tuple[DecayView, ...]:
     tuple of DecayView
         For the modes whose decay could be followed.
     """
-    from .decay import _bands, _shape, cycle_envelopes, fit_decay_models
+    from .decay import _shape, cycle_envelopes, fit_decay_models, isolation_bands
 
     x = view.trace
     if x.ndim == 2:
@@ -251,7 +251,7 @@ def decay_views(view: TapView, modes) -> tuple[DecayView, ...]:
     lead = x[: max(0, int(on[0]) - pre)]
     fs = view.sample_rate_hz
     all_f = [m.frequency_hz for m in modes]
-    bands = dict(zip((m.name for m in modes), _bands(all_f, 0.5 * fs)))
+    bands = dict(zip((m.name for m in modes), isolation_bands(all_f, 0.5 * fs)))
     out = []
     for m in usable:
         try:
