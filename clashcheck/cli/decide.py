@@ -20,7 +20,6 @@ from ._common import (
     provenance_of,
 )
 
-
 #: Library fields of compare and pick, and the flag that sets each (see ``cli._as_flags``).
 FIELD_FLAGS = {
     "cells": "--cells",
@@ -36,19 +35,6 @@ FIELD_FLAGS = {
     "level": "--fail-on",
     "mass": "--mass",
 }
-
-
-def _load(path: Path):
-    """A build file, with any error naming the file (compare reads two)."""
-    from ..errors import InputError
-    from ..inputs.buildfile import load_build
-
-    try:
-        return load_build(path)
-    except InputError as exc:
-        if exc.field.startswith(str(path)):
-            raise
-        raise InputError(f"{path}: {exc.field}", exc.expected, exc.got, exc.hint) from None
 
 
 @click.command()
@@ -74,14 +60,14 @@ def compare(build_a: Path, build_b: Path, fmt: str, fail_on: str, no_shift: bool
     Exit codes: 0 B is not worse at the --fail-on level, 1 it is, 2 bad input.
     """
     from ..analysis.compare import compare_builds
+    from ..inputs.buildfile import load_build
     from ..report.decide import render_compare
 
-    result = compare_builds(_load(build_a), _load(build_b), shift_modes=not no_shift, mass=mass)
+    result = compare_builds(load_build(build_a), load_build(build_b), shift_modes=not no_shift, mass=mass)
     prov = provenance_of(f"{result.a.name} vs {result.b.name}", [build_a, build_b])
     if plot_file is not None:
-        from ..report.campbell import campbell_data, save_campbell
-
         from ..analysis.diagram import diagram_curves
+        from ..report.campbell import campbell_data, save_campbell
 
         save_campbell(plot_file, [campbell_data(result.build_a, result.a, diagram_curves(result.build_a, result.a)),
                                   campbell_data(result.build_b, result.b, diagram_curves(result.build_b, result.b))],
@@ -130,6 +116,7 @@ def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str |
     from ..analysis.pick import pick as run_pick
     from ..analysis.pick import search_space
     from ..errors import InputError, OutputError
+    from ..inputs.buildfile import load_build
     from ..report.decide import render_pick
 
     if (kv_from is None) != (kv_to is None):
@@ -143,7 +130,7 @@ def pick(build_file: Path, top: int, fmt: str, output: Path | None, props: str |
                              props)
     if write_build is not None and output is not None and Path(write_build).resolve() == Path(output).resolve():
         raise OutputError(str(write_build), "the build file and the report need different files")
-    build = _load(build_file)
+    build = load_build(build_file)
     space = search_space(build, props=prop_ids, hover_range=(hover_low, hover_high),
                          kv_range=None if kv_from is None or kv_to is None else (kv_from, kv_to, kv_step),
                          max_motor_mass_kg=options.pop("max_motor_mass"),

@@ -14,14 +14,20 @@ build file is evaluated as code.
 from __future__ import annotations
 
 import math
-
 import tomllib
 from pathlib import Path
 from typing import Any
 
 from ..errors import MISSING, InputError
 from ..model.battery import PACK_STATES, Chemistry, Pack
-from ..model.build import DEFAULT_DWELL_SPREAD, Build, CheckSettings, Flight, MeasuredModes, ThrottleOccupancy
+from ..model.build import (
+    DEFAULT_DWELL_SPREAD,
+    Build,
+    CheckSettings,
+    Flight,
+    MeasuredModes,
+    ThrottleOccupancy,
+)
 from ..model.excitation import FAMILIES, ORDER_FAMILIES, Sensor
 from ..model.modes import MODE_AXES, MODE_KINDS, POLICIES, MarginPolicy, Mode
 from ..model.motor import Motor
@@ -31,6 +37,7 @@ from .catalog import entry
 
 __all__ = [
     "load_build",
+    "load_build_data",
     "parse_build",
     "load_modes_file",
     "parse_mode",
@@ -660,10 +667,33 @@ def load_build(path: str | Path) -> Build:
     >>> round(build.motor.kv_hz_per_v, 4), build.pack.voltage("full")
     (29.1667, 25.200000000000003)
     """
+    return load_build_data(path)[1]
+
+
+def load_build_data(path: str | Path) -> tuple[dict[str, Any], Build]:
+    """Read a build file: its raw tables and the :class:`Build` made from them.
+
+    Errors name the file, so a command that reads two builds says which one.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        The build file.
+
+    Returns
+    -------
+    tuple of (dict, Build)
+        The parsed TOML tables, and the validated build.
+
+    Raises
+    ------
+    InputError
+        When the file is not valid TOML or the build is invalid.
+    """
     data = _read_toml(path, "build file")
     try:
-        return parse_build(data, path=str(path))
-    except InputError as exc:  # name the build file, so 'compare A B' says which one
+        return data, parse_build(data, path=str(path))
+    except InputError as exc:
         raise InputError(f"{path}: {exc.field}", exc.expected, exc.got, exc.hint) from None
 
 

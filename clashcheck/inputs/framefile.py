@@ -191,10 +191,9 @@ def load_frame_model(path: str | Path, *, elements_per_arm: int = DEFAULT_ELEMEN
     InputError
         When the build is invalid or has no ``[frame.body]``.
     """
-    from .buildfile import _read_toml, parse_build
+    from .buildfile import load_build_data
 
-    data = _read_toml(path, "build file")
-    build = parse_build(data, path=str(path))
+    data, build = load_build_data(path)
     raw = data.get("frame")
     frame: dict[str, Any] = raw if isinstance(raw, dict) else {}
     model = parse_frame_model(frame, build.arm, motors=build.motors,
