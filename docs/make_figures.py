@@ -26,7 +26,7 @@ OUT = ROOT / "docs" / "figures"
 
 RUNS = [
     ["check", str(EX / "freestyle-5in.toml"), "--plot", str(OUT / "campbell-freestyle-5in.png")],
-    ["plot", str(EX / "longrange-7in.toml"), "-o", str(OUT / "campbell-longrange-7in.png")],
+    ["plot", str(EX / "longrange-7in.toml"), "--plot", str(OUT / "campbell-longrange-7in.png")],
     ["compare", str(EX / "freestyle-5in.toml"), str(EX / "freestyle-5in-swap.toml"),
      "--plot", str(OUT / "compare-freestyle-5in.png")],
     ["modes", str(REC / "flight.csv"), "--kind", "flight", "--signal", "gx,gy,gz", "--rate", "1.6 kHz",
@@ -56,7 +56,7 @@ def main() -> int:
     runner = CliRunner()
     failed = 0
     for args in RUNS:
-        res = runner.invoke(cli, args)
+        res = runner.invoke(cli, [*args, "--force"])  # the figures here are this script's own
         if res.exit_code not in (0, 1):      # 1: the demo build clashes, as it is meant to
             print(f"failed ({res.exit_code}): clashcheck {' '.join(args)}\n{res.stderr}", file=sys.stderr)
             failed += 1
