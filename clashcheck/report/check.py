@@ -19,6 +19,7 @@ from .common import (
     dump_json,
     num,
     pct,
+    pct_pair,
     text_block,
 )
 from .frame import close_modes_json, close_modes_lines
@@ -144,7 +145,7 @@ def reason_data(mr: ModeResult) -> dict[str, Any] | None:
 
 
 def _span(lo: float | None, hi: float | None) -> str:
-    return f"{pct(lo)}–{pct(hi)}"
+    return "–".join(pct_pair(lo, hi))
 
 
 def reason_text(result: ClashResult, mr: ModeResult) -> str:
@@ -359,7 +360,7 @@ def _header_rows(result: ClashResult) -> list[tuple[str, str]]:
         )
     how = {b.hover.how for b in result.bands}
     band = " · ".join(
-        f"{b.pack_state} {pct(b.throttle_low)}–{pct(b.throttle_high)}" if b.flies else f"{b.pack_state} none"
+        f"{b.pack_state} {_span(b.throttle_low, b.throttle_high)}" if b.flies else f"{b.pack_state} none"
         for b in result.bands
     )
     rows = [
@@ -472,12 +473,12 @@ def _range_rows(result: ClashResult) -> tuple[list[list[str]], int]:
                 continue
             same = _same([lo for _s, lo, _h in r.per_state]) and _same([hi for _s, _l, hi in r.per_state])
             if same or len(r.per_state) <= 1:
-                throttle = f"{pct(r.throttle_low)}–{pct(r.throttle_high)}"
+                throttle = _span(r.throttle_low, r.throttle_high)
                 if len(result.bands) > 1:
                     throttle += (" (every pack state)" if len(r.pack_states) == len(result.bands)
                                  else f" ({', '.join(r.pack_states)})")
             else:
-                throttle = " · ".join(f"{st} {pct(lo)}–{pct(hi)}" for st, lo, hi in r.per_state)
+                throttle = " · ".join(f"{st} {_span(lo, hi)}" for st, lo, hi in r.per_state)
             rows.append([
                 r.mode,
                 throttle,

@@ -6,7 +6,7 @@ import json
 import math
 from typing import Any
 
-__all__ = ["CAUTIONS", "JSON_SCHEMA_VERSION", "pct", "dump_json", "num", "rounded", "text_block",
+__all__ = ["CAUTIONS", "JSON_SCHEMA_VERSION", "pct", "pct_pair", "dump_json", "num", "rounded", "text_block",
            "cautions_block"]
 
 #: Safety lines printed with results that may lead to hardware work.
@@ -41,6 +41,39 @@ def pct(x: float | None, digits: int = 0) -> str:
     if math.isinf(x):
         return "unreachable"
     return f"{100 * x:.{digits}f} %"
+
+
+def pct_pair(a: float | None, b: float | None, digits: int = 0) -> tuple[str, str]:
+    """Two fractions as percentages with enough decimals to tell them apart.
+
+    Two different numbers that print alike ("4 %–4 %", "13.6 %, below the
+    13.6 %") read as a mistake; up to two more decimals are added until they
+    differ.
+
+    Parameters
+    ----------
+    a, b : float or None
+        Fractions.
+    digits : int, optional
+        Decimal places when the two already differ.
+
+    Returns
+    -------
+    (str, str)
+        The two percentages, as :func:`pct` writes them.
+
+    Examples
+    --------
+    >>> pct_pair(0.0401, 0.0449)
+    ('4.0 %', '4.5 %')
+    >>> pct_pair(0.27, 0.31)
+    ('27 %', '31 %')
+    """
+    for d in range(digits, digits + 3):
+        sa, sb = pct(a, d), pct(b, d)
+        if sa != sb or a == b:
+            break
+    return sa, sb
 
 
 def num(x: float | None) -> float | None:

@@ -17,7 +17,7 @@ from pathlib import Path
 from typing import Any
 
 from .check import render, render_markdown, result_to_dict
-from .common import CAUTIONS, JSON_SCHEMA_VERSION, dump_json, pct
+from .common import CAUTIONS, JSON_SCHEMA_VERSION, dump_json, pct, pct_pair
 from .common import num as _num
 
 __all__ = [
@@ -299,7 +299,10 @@ def _change_lines(cmp) -> list[str]:
         lines.append(f"verdict of {v.mode}: {v.verdict_a or 'absent'} → {v.verdict_b or 'absent'}")
     grouped: dict[tuple[str, str, str], list[str]] = {}
     for m in cmp.margin_changes:
-        if abs(m.change) >= 0.0005:
+        # only margins near their requirement in A or B (under twice it) are listed: a cruise
+        # margin falling from 317 % to 234 % changes nothing a builder acts on (JSON has them all)
+        near = min(m.margin_a, m.margin_b) < NEAR_FACTOR * max(m.required_a, m.required_b)
+        if abs(m.change) >= 0.0005 and near:
             grouped.setdefault((m.mode, m.point, _pp(m.change)), []).append(m.pack_state)
     moved = sorted(grouped.items(), key=lambda kv: -abs(float(kv[0][2].split()[0])))
 
@@ -308,7 +311,8 @@ def _change_lines(cmp) -> list[str]:
         return f"{key[0]} at {key[1]} ({', '.join(states)}) {key[2]}"
     grow = [phrase(k, v) for k, v in moved if not k[2].startswith("-")][:5]
     shrink = [phrase(k, v) for k, v in moved if k[2].startswith("-")][:5]
-    for title, items in (("margins that grow most", grow), ("margins that shrink most", shrink)):
+    for title, items in (("margins near their requirement that grow most", grow),
+                         ("margins near their requirement that shrink most", shrink)):
         lines.append(f"{title}: " + (", ".join(items) if items else "none"))
     h = cmp.empty_hover_b
     if h.how == "unknown":
@@ -318,6 +322,11 @@ def _change_lines(cmp) -> list[str]:
     else:
         lines.append("B cannot hover on an empty pack")
     return lines
+
+
+#: A margin under this many times its requirement (in A or B) is "near" it and its
+#: change is listed among the changes; judgement.
+NEAR_FACTOR = 2.0
 
 
 class _Doc:
@@ -652,11 +661,12 @@ def suggestion_text(sug) -> str:
                 f"{how} structure{tail}): no significant order in a dwell zone then comes within its margin at "
                 "any pack state.")
     elif sug.kind == "damping":
-        how = "soft-mount the item" if sug.value > 0.1 else "add damping (e.g. constrained-layer tape)"
+        how = "soft-mount the item" if sug.value > 0.1 else "add damping, e.g. constrained-layer tape"
         head = f"Raise the damping of {sug.mode} from ζ = {sug.current:.3f} to ζ = {sug.value:.3f} ({how}): "
         if d.get("dwell_margin", 0.0) > 0:
-            head += (f"its required margin falls to {pct(d.get('required_margin_after'), 1)}, below the "
-                     f"{pct(d.get('dwell_margin'), 1)} the orders keep from it in the dwell zones.")
+            after, kept = pct_pair(d.get("required_margin_after"), d.get("dwell_margin"), 1)
+            head += (f"its required margin falls to {after}, below the "
+                     f"{kept} the orders keep from it in the dwell zones.")
         else:
             head += ("an order sits on it in a dwell zone, and at this damping the policy asks no margin "
                      "(amplification factor below 2.5).")
