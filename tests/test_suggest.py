@@ -123,10 +123,49 @@ def test_hover_inside_the_margin_mode_and_mass():
     assert mass.value == pytest.approx(MASS * (150 * (1 + SM) * (1 + 1e-3) / N_HOVER) ** 2, rel=1e-6)
     assert mass.is_fix and 0 < mass.change <= 0.25
     # the mode moved: below n/(1 + SM) or above n/(1 − SM) hover keeps the margin (derived from
-    # |n − f|/f ≥ SM); the band above hover sweeps 1× up to cruise, so only the lower side is a fix
+    # |n − f|/f ≥ SM); both sides are fixes (between hover and cruise the 1× line only passes), and
+    # the nearer one, the lower, is proposed with the other beside it
     mode = found["mode-frequency"]
     assert mode.value == pytest.approx(N_HOVER / (1 + SM) * (1 - 1e-3), rel=1e-6)
     assert mode.is_fix
+    assert mode.details["other_side_hz"] == pytest.approx(N_HOVER / (1 - SM) * (1 + 1e-3), rel=1e-6)
+    assert mode.details["other_side_is_fix"] == 1.0
+
+
+def _with_brackets(*hz: float):
+    extra = "".join(f"""
+[[frame.modes]]
+name = "bracket {f:g}"
+frequency = "{f} Hz"
+damping = 0.05
+kind = "other"
+""" for f in hz)
+    return parse_build(tomllib.loads(TEMPLATE.format(mode_hz=150.0, kind="plate") + extra), path="s.toml")
+
+
+def test_a_moved_mode_that_lands_close_to_another_says_so():
+    # as above, moving the 150 Hz mode to n/(1 + SM)·(1 − 1e-3) ≈ 139.1 Hz or n/(1 − SM)·(1 + 1e-3)
+    # ≈ 188.6 Hz clears hover (derived).  Brackets at 137 and 192 Hz keep more than SM from hover
+    # (16.8 % and 16.6 %: no clash of their own) and sit 1.6 % and 1.8 % from those two figures,
+    # closer than the 5 % default separation of close modes (analysis/close_modes.py).
+    low, high = N_HOVER / (1 + SM) * (1 - 1e-3), N_HOVER / (1 - SM) * (1 + 1e-3)
+    from clashcheck.report.decide import suggestion_text
+
+    # only the lower figure lands close: the upper one, also a fix, is proposed instead
+    one = _by_kind(suggest(_with_brackets(137.0)))["mode-frequency"]
+    assert one.value == pytest.approx(high, rel=1e-6) and one.is_fix and one.close_after == ()
+    assert one.details["other_side_hz"] == pytest.approx(low, rel=1e-6)
+    # both land close: the nearer fix, with the mode it comes close to and the gap
+    both = _with_brackets(137.0, 192.0)
+    assert not {"bracket 137", "bracket 192"} & {mr.mode.name for mr in check_build(both).modes
+                                                 if mr.verdict == "clash"}
+    mode = _by_kind(suggest(both))["mode-frequency"]
+    assert mode.value == pytest.approx(low, rel=1e-6) and mode.is_fix
+    assert mode.close_after == ("bracket 137",)
+    assert mode.details["close_gap"] == pytest.approx((low - 137.0) / 137.0, rel=1e-6)
+    assert "from bracket 137: close modes exchange energy" in suggestion_text(mode)
+    # without the brackets, nothing is said
+    assert _by_kind(suggest(_build(150.0)))["mode-frequency"].close_after == ()
 
 
 def test_damping_that_drops_the_required_margin():

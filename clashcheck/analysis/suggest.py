@@ -15,7 +15,12 @@ The changes, each bounded so that it names something a builder can do:
   - *mode frequency*: the nearest frequency, below and above, at which no
     significant order in a dwell zone comes within the required margin at any
     pack state (stiffer or softer structure, or a moved mass); within
-    :data:`MODE_SCALE_RANGE` of the present figure;
+    :data:`MODE_SCALE_RANGE` of the present figure.  Of the two, a fix that
+    lands close to no other mode (:func:`~clashcheck.analysis.close_modes.close_modes`)
+    is preferred; a moved mode that lands close to another one names it in
+    ``close_after``, the gap in ``details["close_gap"]`` (close modes exchange
+    energy; the verdict does not judge that, so the suggestion stays a fix and
+    the report says so);
   - *damping*: the damping ratio (damping tape, or soft mounting of the
     item) at which the required margin drops below the margin the dwell
     zones keep now; at most :data:`MAX_DAMPING` for the mode's kind.
@@ -60,6 +65,7 @@ import numpy as np
 
 from ..model.modes import Mode, amplification_factor
 from .clash import ClashResult, Window, _apparent_range, check_build
+from .close_modes import ClosePair, close_modes
 from .pick import DEFAULT_HOVER_RANGE
 
 __all__ = [
@@ -150,6 +156,9 @@ class Suggestion:
     hover_after: tuple[float, float]
     #: Extra figures (other side of a two-sided limit, margins), SI, keys with unit suffixes.
     details: dict[str, float] = field(default_factory=dict)
+    #: Modes that a moved mode sits close to after the move (mode-frequency only); the
+    #: smallest gap is ``details["close_gap"]``.
+    close_after: tuple[str, ...] = ()
 
     @property
     def change(self) -> float:
@@ -332,19 +341,29 @@ def _mode_frequency(build, result, mr, window) -> list[Suggestion]:
     for scale in (down, up):
         if lo_s <= scale <= hi_s:
             changed = _with_mode(build, _scaled_mode(mode, scale))
-            options.append(_confirm("mode-frequency", mode.name, window, mode.frequency_hz * scale,
-                                    mode.frequency_hz, result, changed,
-                                    {"scale": scale, "required_margin": sm}))
+            details = {"scale": scale, "required_margin": sm}
+            pairs = _close_pairs(changed.modes, mode.name)
+            if pairs:
+                details["close_gap"] = min(p.gap for p in pairs)
+            sug = _confirm("mode-frequency", mode.name, window, mode.frequency_hz * scale,
+                           mode.frequency_hz, result, changed, details)
+            options.append(replace(sug, close_after=tuple(
+                p.upper if p.lower == mode.name else p.lower for p in pairs)))
     if not options:
         return []
-    # the nearer figure that is a fix, else the nearer one
-    best = min(options, key=lambda s: (not s.is_fix, abs(math.log(s.value / s.current))))
+    # the nearer figure that is a fix, and lands close to no other mode, else the nearer one
+    best = min(options, key=lambda s: (not s.is_fix, bool(s.close_after), abs(math.log(s.value / s.current))))
     other = [s for s in options if s is not best]
     if other:
         key = "other_side_hz"
         best = replace(best, details={**best.details, key: other[0].value,
                                       "other_side_is_fix": float(other[0].is_fix)})
     return [best]
+
+
+def _close_pairs(modes: Sequence[Mode], name: str) -> list[ClosePair]:
+    """The close pairs (default separation, or overlapping half-power bands) that mode ``name`` is in."""
+    return [p for p in close_modes(modes) if name in (p.lower, p.upper)]
 
 
 def _damping(build, result, mr, window) -> list[Suggestion]:

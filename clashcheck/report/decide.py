@@ -660,6 +660,9 @@ def suggestion_text(sug) -> str:
         head = (f"Move {sug.mode} from {sug.current:.0f} Hz to {sug.value:.0f} Hz ({100 * sug.change:+.0f} %, a "
                 f"{how} structure{tail}): no significant order in a dwell zone then comes within its margin at "
                 "any pack state.")
+        if sug.close_after:
+            head += (f" It then sits {pct(d.get('close_gap'), 1)} from {', '.join(sug.close_after)}: close "
+                     "modes exchange energy, so separate them too.")
     elif sug.kind == "damping":
         how = "soft-mount the item" if sug.value > 0.1 else "add damping, e.g. constrained-layer tape"
         head = f"Raise the damping of {sug.mode} from ζ = {sug.current:.3f} to ζ = {sug.value:.3f} ({how}): "
@@ -707,6 +710,7 @@ def suggestions_to_dict(suggestions) -> list[dict[str, Any]]:
              "current": _num(s.current), "unit": units.get(s.kind, ""), "change": _num(s.change),
              "status": s.status, "mode_verdict_after": s.mode_verdict_after, "verdict_after": s.verdict_after,
              "new_clashes": list(s.new_clashes), "cannot_hover": list(s.cannot_hover),
+             "close_after": list(s.close_after),
              "remaining": [{"order": r.order, "aliased": r.aliased, "pack_state": r.pack_state,
                             "throttle_low": r.throttle_low, "throttle_high": r.throttle_high} for r in s.remaining],
              "hover_after": {"low": _num(s.hover_after[0]), "high": _num(s.hover_after[1])},
