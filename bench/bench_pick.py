@@ -91,7 +91,9 @@ def main(argv=None) -> int:
                 and math.isclose(float(scores.response[i]), response, rel_tol=1e-9))
         bad += not same
     print(f"disagreements on the subset: {bad} of {subset.size}")
-    print(f"best: {result.top[0].label} ({'; '.join(result.top[0].reasons)})")
+    from clashcheck.report.decide import pick_reasons
+
+    print(f"best: {result.top[0].label} ({'; '.join(pick_reasons(result.top[0], result.hover_range))})")
     print(f"speedup: {scaled / t_vec:.0f}x (target >= 50x)")
     return 0 if bad == 0 else 1
 

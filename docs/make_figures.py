@@ -6,9 +6,9 @@ Each figure is made by the command a user would run (through ``clashcheck``'s
 own command line, in this process), from the invented demo builds in
 ``examples/`` and the demo recordings in ``examples/recordings/``:
 
-- campbell-freestyle-5in.png   check --plot (5-inch demo: close arm modes 172/186 Hz, dwell zones)
+- campbell-freestyle-5in.png   check --plot (5-inch demo: close modes 235/245/255 Hz, dwell zones)
 - campbell-longrange-7in.png   plot (7-inch demo with a 2 kHz sensor: aliased orders)
-- compare-freestyle-5in.png    compare --plot (the motor swap, stacked on an A4 page)
+- compare-freestyle-5in.png    compare --plot (the motor swap that makes it worse, stacked on an A4 page)
 - flight.png, flight-time.png  modes --kind flight --plot (spectra against rotor speed, and time)
 - tap.png                      modes --kind tap --plot (bolted 7-inch frame: friction decay)
 - frame-heron-s5.png           frame --plot (mode shapes of the whole-frame model; drawn by report/frame.py)

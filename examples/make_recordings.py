@@ -103,12 +103,18 @@ def make_flight(path: Path) -> None:
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--out", type=Path, default=HERE / "recordings")
+    parser.add_argument("--force", action="store_true",
+                        help="replace recordings already there (this script's own outputs)")
     args = parser.parse_args()
     args.out.mkdir(parents=True, exist_ok=True)
+    names = ("tap.wav", "flight.csv", "tap-bolted.wav", "tap-pressnut.wav")
+    if args.force:
+        for name in names:
+            (args.out / name).unlink(missing_ok=True)
     make_tap(args.out / "tap.wav")
     make_flight(args.out / "flight.csv")
     make_joint_pair(args.out / "tap-bolted.wav", args.out / "tap-pressnut.wav")
-    for name in ("tap.wav", "flight.csv", "tap-bolted.wav", "tap-pressnut.wav"):
+    for name in names:
         p = args.out / name
         print(f"wrote {p} ({p.stat().st_size / 1e3:.0f} kB)")
 

@@ -233,13 +233,21 @@ def test_freestyle_hand_numbers(runner):
     for state, d in zip(STATES, HOVER_THROTTLE):
         assert hand.hover_throttle(state) == pytest.approx(d, abs=1e-6)
         assert data["hover"][state]["throttle"] == pytest.approx(d, abs=1e-6)
-    # 1× crossing of "arm flap, roll" (186 Hz, ζ 0.030 → AF 16.7 → SM 15.88 %) per pack state
-    assert hand.modes["arm flap, roll"][1] == pytest.approx(0.158791, abs=1e-6)
-    for state, d in zip(STATES, ROLL_1X_CROSSING):
-        assert hand.throttle_at_hz(186.0, state) == pytest.approx(d, abs=1e-6)
+    # 1× window of "arm flap, roll" (235 Hz, ζ 0.030 → AF 16.7 → SM 15.88 %) per pack state
+    f_m, sm = hand.modes["arm flap, roll"]
+    assert (f_m, sm) == pytest.approx((235.0, 0.158791), abs=1e-6)
+    for state, d, low in zip(STATES, ROLL_1X_CROSSING, ROLL_1X_LOW):
+        assert hand.throttle_at_hz(f_m, state) == pytest.approx(d, abs=1e-6)
+        assert hand.throttle_at_hz(f_m * (1 - sm), state) == pytest.approx(low, abs=1e-6)
         window = _direct_1x(data, "arm flap, roll", state)[0]
         assert window["crossing_throttle"] == pytest.approx(d, abs=1e-6)
-        assert window["throttle_low"] < data["hover"][state]["throttle"] < window["throttle_high"]
+        assert window["throttle_low"] == pytest.approx(low, abs=1e-6)
+        # the window starts above hover but inside the dwell zone, hover ± 3 points (the default spread)
+        hover = data["hover"][state]["throttle"]
+        assert hover < window["throttle_low"] < hover + DWELL_SPREAD
+    roll = next(m for m in data["modes"] if m["name"] == "arm flap, roll")
+    assert roll["verdict"] == "clash"
+    assert all(m["verdict"] != "clash" for m in data["modes"] if m["name"] != "arm flap, roll")
     assert data["verdict"] == "clash"
 
 
@@ -250,9 +258,12 @@ def test_freestyle_hand_numbers(runner):
 #   kq = C_P ρ D⁵/(8π³) = 1.52827e-8 N·m·s².
 #   hover: n = √(0.690 · 9.80665 / (4 · 0.150 · 1.222650 · 0.12954⁴)) = 180.98828 rev/s;
 #   throttle (brentq on the steady state) full 0.234839, nominal 0.266842, empty 0.282239.
-#   "arm flap, roll" 186 Hz, ζ 0.030 → AF 16.67 → SM = 17 %·(1 − 1/15.17) = 15.879 %;
-#   1× crossing (186 rev/s) at throttle full 0.241619, nominal 0.274566, empty 0.290421 — just above
-#   hover, so the 1× window covers hover in every pack state: the demo's CLASH.
+#   "arm flap, roll" 235 Hz, ζ 0.030 → AF 16.67 → SM = 17 %·(1 − 1/15.17) = 15.879 %;
+#   1× crossing (235 rev/s) at throttle full 0.309167, nominal 0.351667, empty 0.372164; the window
+#   starts at 235·(1 − SM) rev/s, throttle full 0.257515, nominal 0.292685, empty 0.309617: 2.3 to
+#   2.7 points above hover, inside the 3-point dwell spread (DESIGN.md verdict): the demo's CLASH.
 HOVER_HZ = 180.98828
 HOVER_THROTTLE = (0.234839, 0.266842, 0.282239)
-ROLL_1X_CROSSING = (0.241619, 0.274566, 0.290421)
+ROLL_1X_CROSSING = (0.309167, 0.351667, 0.372164)
+ROLL_1X_LOW = (0.257515, 0.292685, 0.309617)
+DWELL_SPREAD = 0.03  # the documented default [flight] dwell_spread (DESIGN.md, README)

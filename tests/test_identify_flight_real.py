@@ -109,6 +109,36 @@ def test_a_right_drive_model_is_kept(tmp_path):
     assert _strengths(result)[7.0] == pytest.approx(spec.true_strengths()[7], rel=0.15)
 
 
+#: A 1.6 kHz log with no anti-alias filter: 6× and 7× fold back into the band, and
+#: frame modes (as strong as the lines) sit where a rate 0.65–0.75 × the true one has
+#: harmonics: 125 Hz, 255 Hz, and the folded lines.  Rotor rate 15 Hz + 600 Hz × throttle.
+FOLD_ORDERS = [(1, (3.0, 3.0, 1.0)), (2, (1.0, 1.0, 0.4)), (3, (6.0, 5.0, 2.0)),
+               (6, (1.5, 1.5, 0.6)), (7, (0.8, 0.8, 0.8))]
+FOLD_MODES = [(80.0, 0.06, (0.6, 0.6, 0.4)), (125.0, 0.04, (0.6, 0.6, 0.4)),
+              (235.0, 0.03, (1.0, 0.3, 0.2)), (255.0, 0.022, (0.3, 1.0, 0.2)),
+              (750.0, 0.035, (0.2, 0.2, 1.0))]
+
+
+@pytest.mark.parametrize("mode_rms", [1.0, 6.0])
+def test_a_right_drive_model_is_kept_when_lines_fold_onto_modes(tmp_path, mode_rms):
+    # before the fold-aware, model-first harmonic sum this read the lines 25–32 % low,
+    # replaced the right drive model and reported 1× as the strongest order
+    fold_curve = lambda u: 15.0 + 600.0 * np.asarray(u)  # noqa: E731
+    spec = Flight(fs=1600.0, duration_s=30.0, curve=fold_curve, orders=FOLD_ORDERS, modes=FOLD_MODES,
+                  levels=(0.25, 0.4, 0.55, 0.7, 0.5, 0.32), spread=(-0.01, 0.0, 0.005, 0.01),
+                  mode_rms=mode_rms, seed=3)
+    settings = FlightSettings(blades=3, poles=14, rotor_of_throttle=fold_curve)
+    result = _analyse(tmp_path, spec, Columns(signals=SIG, time_column="t",
+                                              throttle_column="throttle"), settings)
+    assert not any("drive model" in w for w in result.warnings), result.warnings
+    got, true = _strengths(result), spec.true_strengths()  # derived from the stated amplitudes
+    for k in (1, 2, 3):
+        assert got[float(k)] == pytest.approx(true[k], rel=0.15), k
+    # the four modes inside the analysed band (640 Hz), within 1 %
+    found = sorted(m.frequency_hz for m in result.modes)
+    assert found == pytest.approx([80.0, 125.0, 235.0, 255.0], rel=0.01)
+
+
 def test_onboard_150_hz_lowpass_damping_and_axes(tmp_path):
     # a 2nd-order 150 Hz low-pass on board, before logging
     spec = _flight(lowpass_hz=150.0, spread=(-0.015, -0.005, 0.005, 0.015))

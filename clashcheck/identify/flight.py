@@ -64,6 +64,7 @@ from .views import Timeline, flight_view
 
 __all__ = ["FlightSettings", "analyse_flight", "stream_flight", "StreamedFlight", "order_families",
            "MIN_SEGMENTS", "MIN_BINS", "CONFIDENCE_FLOOR", "DRIVE_TOLERANCE", "MOTOR_SPREAD",
+           "ESTIMATE_MARGIN",
            "DWELL_BANDS"]
 
 #: Fewest Welch segments a flight analysis accepts.
@@ -94,6 +95,13 @@ MOTOR_SPREAD = 0.01
 MASK_ORDERS = 8
 #: Range, relative to the drive model's rotor rate, searched for the log's own rate.
 ESTIMATE_RANGE = (0.65, 1.5)
+#: How much more a rate away from the drive model's must score in the harmonic
+#: sum than the best rate within :data:`DRIVE_TOLERANCE` of it, to be taken: the
+#: score of two lines standing 6 dB out of their surroundings (2·ln 4).  Frame
+#: modes are peaks too, and a wrong rate whose harmonics land on two or three of
+#: them can outscore the right one by a little; a wrong drive model loses by a lot.
+#: Judgement, set on generated logs (tests/test_identify_flight_real.py).
+ESTIMATE_MARGIN = 2.0 * math.log(4.0)
 #: Share of a bin's segments that must keep a frequency (clear of order lines) for
 #: the bin to vote on it in the stationary spectrum.
 MIN_KEPT = 0.5
@@ -483,15 +491,19 @@ def _log_background(total: np.ndarray, df: float) -> tuple[np.ndarray, np.ndarra
 
 
 def _harmonic_rate(white: np.ndarray, df: float, pred: np.ndarray, orders: np.ndarray,
-                   fmin: float, ftop: float) -> tuple[np.ndarray, np.ndarray]:
+                   fmin: float, ftop: float, fs: float) -> tuple[np.ndarray, np.ndarray]:
     """Rotor rate of each segment from its own spectrum, by harmonic summation.
 
     For each candidate rate f in :data:`ESTIMATE_RANGE` × the predicted rate,
     the whitened log spectrum (log power less its 20 Hz running mean,
     :func:`_log_background`) is read at every order k·f and the readings,
-    clipped to 0–5 (up to 22 dB), are summed; the candidate with the largest
-    sum is the rotor rate (subharmonic summation, Hermes, *J. Acoust. Soc. Am.*
-    83 (1988) 257–264; the harmonic sum of Noll 1969).  A coarse grid on a
+    clipped to 0–5 (up to 22 dB), are summed (subharmonic summation, Hermes,
+    *J. Acoust. Soc. Am.* 83 (1988) 257–264; the harmonic sum of Noll 1969).
+    An order above the Nyquist frequency is read where sampling folds it,
+    |k·f − fs·round(k·f/fs)| (a log with no anti-alias filter shows it there;
+    a filtered one shows nothing there, for every candidate alike).  The best
+    candidate within :data:`DRIVE_TOLERANCE` of the prediction is kept unless
+    one farther away scores :data:`ESTIMATE_MARGIN` more.  A coarse grid on a
     ±3-bin maximum of the spectrum is refined on the spectrum itself.
 
     Parameters
@@ -506,6 +518,8 @@ def _harmonic_rate(white: np.ndarray, df: float, pred: np.ndarray, orders: np.nd
         Orders summed.
     fmin, ftop : float
         Band in which lines are read [Hz].
+    fs : float
+        Sample rate [Hz], for the folded images of orders above fs/2.
 
     Returns
     -------
@@ -528,11 +542,14 @@ def _harmonic_rate(white: np.ndarray, df: float, pred: np.ndarray, orders: np.nd
     np.clip(white, 0.0, 5.0, out=white_c[:, :nf])
     rows = (np.arange(nseg) * (nf + 1))[:, None]
 
+    def seen(fk: np.ndarray) -> np.ndarray:
+        return np.abs(fk - fs * np.rint(fk / fs))  # where sampling at fs puts k·f
+
     def score(cand: np.ndarray, spec: np.ndarray) -> np.ndarray:
         flat = spec.ravel()
         out = np.zeros(cand.shape)
         for k in orders:
-            fk = k * cand
+            fk = seen(k * cand)
             idx = np.rint(fk * (1.0 / df)).astype(np.intp)
             idx[(fk <= fmin) | (fk >= ftop) | (idx >= nf)] = nf
             out += flat[rows + idx]
@@ -543,14 +560,20 @@ def _harmonic_rate(white: np.ndarray, df: float, pred: np.ndarray, orders: np.nd
     step = 5.0 * df / (kmax * max(float(pred.max()), 1e-9))
     rel = np.exp(np.arange(math.log(lo), math.log(hi), step))
     cand = pred[:, None] * rel[None, :]
-    best = cand[np.arange(nseg), np.argmax(score(cand, wide_c), axis=1)]
+    coarse = score(cand, wide_c)
+    near = np.abs(np.log(rel)) <= math.log1p(DRIVE_TOLERANCE)
+    at = np.where(near, coarse, -np.inf).argmax(axis=1)
+    far = coarse.argmax(axis=1)
+    seg = np.arange(nseg)
+    pick = np.where(coarse[seg, far] - coarse[seg, at] > ESTIMATE_MARGIN, far, at)
+    best = cand[seg, pick]
     fine = best[:, None] * np.exp(np.linspace(-step, step, 21))[None, :]
-    est = fine[np.arange(nseg), np.argmax(score(fine, white_c), axis=1)]
+    est = fine[seg, np.argmax(score(fine, white_c), axis=1)]
     hits = np.zeros(nseg, dtype=int)
     for k in orders:
-        fk = k * est
+        fk = seen(k * est)
         idx = np.clip(np.round(fk / df).astype(int), 0, nf - 1)
-        hits += ((fk > fmin) & (fk < ftop) & (wide[np.arange(nseg), idx] > math.log(4.0)))
+        hits += ((fk > fmin) & (fk < ftop) & (wide[seg, idx] > math.log(4.0)))
     return est, hits
 
 
@@ -765,7 +788,8 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
                     rotor_seg.append(value)
                     if predicted:
                         e, h = _harmonic_rate(logp - logbg, df, value, est_orders,
-                                              settings.min_frequency_hz, USABLE_BAND * state["fs"])
+                                              settings.min_frequency_hz, USABLE_BAND * state["fs"],
+                                              state["fs"])
                         good = h >= 2
                         est = np.where(good, e, np.nan)
                         ratio = np.where(good, e / value, 1.0)
