@@ -306,10 +306,9 @@ def main() -> int:
     import traceback
 
     if "--csv" in sys.argv[1:]:  # a CSV request is likely: load its reader while waiting
-        try:
-            import pandas  # noqa: F401
-        except ImportError:
-            pass
+        from .readers import preload_csv
+
+        preload_csv()
     try:
         request = sys.stdin.buffer.read()
         if not request:  # no request came (the parent ended early)
