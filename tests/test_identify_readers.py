@@ -1,4 +1,4 @@
-"""Recording readers: CSV (pyarrow, pandas and numpy paths), WAV, .npy, and malformed files."""
+"""Recording readers: CSV (pandas and numpy paths), WAV, .npy, and malformed files."""
 
 from __future__ import annotations
 
@@ -31,15 +31,12 @@ def csv_file(tmp_path, table):
     return path
 
 
-@pytest.fixture(params=["arrow", "pandas", "numpy"])
+@pytest.fixture(params=["pandas", "numpy"])
 def csv_path(request, monkeypatch):
-    """Run each CSV test through the three readers: pyarrow's streaming reader,
-    chunked pandas and the numpy fallback."""
-    if request.param != "arrow":
-        monkeypatch.setattr(readers, "_arrow_csv", lambda: None)
+    """Run each CSV test through both readers: chunked pandas and the numpy fallback."""
     if request.param == "pandas":
         pytest.importorskip("pandas")
-    elif request.param == "numpy":
+    else:
         monkeypatch.setattr(readers, "_pandas", lambda: None)
     return request.param
 
@@ -62,101 +59,11 @@ def test_csv_round_trip_in_blocks(csv_path, csv_file, table):
 
 def test_csv_pandas_and_numpy_paths_agree(csv_file, monkeypatch):
     pytest.importorskip("pandas")
-    monkeypatch.setattr(readers, "_arrow_csv", lambda: None)
     a = open_recording(csv_file, COLS).read_all()
     monkeypatch.setattr(readers, "_pandas", lambda: None)
     b = open_recording(csv_file, COLS).read_all()
     np.testing.assert_array_equal(a.signals, b.signals)
     np.testing.assert_array_equal(a.time_s, b.time_s)
-
-
-def _logger_csv(path, rng, rows=5000, trailing=False):
-    """A flight-logger-like CSV, stated here: timestamps printed to 0.1 ms (rounded),
-    a spare text column, gaps as blank cells and as missing-value markers, a quoted
-    cell, values of mixed precision and sign; optionally a trailing delimiter."""
-    t = np.round(np.arange(rows) / 3000.0 + rng.normal(0, 2e-6, rows), 4)
-    x = rng.normal(0, 3.0, (rows, 2))
-    thr = np.clip(0.3 + 0.2 * np.sin(np.arange(rows) / 700.0), 0, 1)
-    lines = []
-    for i in range(rows):
-        gx = f"{x[i, 0]:.5f}" if i % 997 else ""
-        gy = f"{x[i, 1]:.3e}" if i % 1499 else "NaN"
-        mode = '"ACRO, armed"' if i % 500 == 250 else "ACRO"
-        lines.append(f"{t[i]:.4f},{gx},{gy},{thr[i]:.3f},{mode}" + ("," if trailing else ""))
-    path.write_text("t,gx,gy,thr,mode" + ("," if trailing else "") + "\n" + "\n".join(lines) + "\n",
-                    encoding="utf-8")
-    return path
-
-
-@pytest.mark.parametrize("trailing", [False, True])
-def test_csv_arrow_and_pandas_paths_give_the_same_blocks(tmp_path, monkeypatch, trailing):
-    path = _logger_csv(tmp_path / "log.csv", np.random.default_rng(5), trailing=trailing)
-    # wide enough that a block spans several of the arrow reader's byte blocks
-    monkeypatch.setattr(readers, "ARROW_BLOCK_BYTES", 4096)
-    arrow = list(open_recording(path, COLS).blocks(block_rows=1200, prefetch=False))
-    monkeypatch.setattr(readers, "_arrow_csv", lambda: None)
-    pandas = list(open_recording(path, COLS).blocks(block_rows=1200, prefetch=False))
-    assert [b.first_row for b in arrow] == [b.first_row for b in pandas] == [0, 1200, 2400, 3600, 4800]
-    for a, b in zip(arrow, pandas):
-        np.testing.assert_array_equal(a.signals, b.signals)  # NaN where missing, in both
-        np.testing.assert_array_equal(a.time_s, b.time_s)
-        np.testing.assert_array_equal(a.throttle, b.throttle)
-    sig = np.concatenate([b.signals for b in arrow])
-    assert np.isnan(sig[997, 0]) and np.isnan(sig[1499, 1])  # the stated gaps
-    assert np.isfinite(sig[1:997]).all()
-
-
-@pytest.mark.parametrize(
-    "late, what",
-    [
-        ("0.9,1,abc,0.5", r"row 3002: 'abc' is not a number"),
-        ("0.9,1,2,0.5,7", r"row 3002: malformed row"),
-        ("0.9,1,NAN,0.5", r"unreadable"),  # a NaN spelling pandas does not take as missing
-        ('0.9,1,2,"0.5', r"malformed row"),  # a quote left open to the end of the file
-    ],
-)
-def test_csv_arrow_path_refuses_as_the_pandas_path(tmp_path, monkeypatch, late, what):
-    # the malformed row comes after several blocks: the arrow path has handed on rows
-    # already and the other path reads on from there, so the error is the same
-    rows = [f"{i / 1000:.3f},1,2,0.5" for i in range(3000)] + [late] + ["1.0,1,2,0.5"] * 5
-    path = _csv(tmp_path / "late.csv", rows)
-    monkeypatch.setattr(readers, "ARROW_BLOCK_BYTES", 4096)
-    errors = []
-    for hide in (False, True):
-        if hide:
-            monkeypatch.setattr(readers, "_arrow_csv", lambda: None)
-        seen = 0
-        with pytest.raises(RecordingError, match=what) as info:
-            for blk in open_recording(path, COLS).blocks(block_rows=1000, prefetch=False):
-                assert blk.first_row == seen  # no row handed on twice or skipped
-                seen += blk.signals.shape[0]
-        errors.append((str(info.value), seen))
-    assert errors[0] == errors[1]
-
-
-def test_csv_arrow_path_reads_on_where_it_stops(tmp_path, monkeypatch):
-    # a short row (pandas fills it with missing values; the arrow reader stops there)
-    rows = [f"{i / 1000:.3f},{i},2,0.5" for i in range(2500)]
-    rows[2200] = "2.2,5"
-    path = _csv(tmp_path / "short.csv", rows)
-    monkeypatch.setattr(readers, "ARROW_BLOCK_BYTES", 4096)
-    blocks = list(open_recording(path, COLS).blocks(block_rows=1000, prefetch=False))
-    assert [b.first_row for b in blocks] == [0, 1000, 2000]
-    sig = np.concatenate([b.signals for b in blocks])
-    assert sig.shape == (2500, 2)
-    assert sig[2200, 0] == 5.0 and np.isnan(sig[2200, 1])
-    np.testing.assert_array_equal(np.delete(sig[:, 0], 2200), np.delete(np.arange(2500.0), 2200))
-
-
-def test_csv_arrow_path_does_not_import_pandas(csv_file):
-    import subprocess
-    import sys
-
-    code = ("import sys\nfrom clashcheck.identify.readers import Columns, open_recording\n"
-            f"open_recording({str(csv_file)!r}, Columns(signals=('gx',), time_column='t')).read_all()\n"
-            "print('pyarrow' in sys.modules, 'pandas' in sys.modules)\n")
-    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
-    assert out.stdout.split() == ["True", "False"]
 
 
 def test_csv_rotor_columns_are_averaged_and_scaled(csv_path, tmp_path):

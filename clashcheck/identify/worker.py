@@ -306,9 +306,10 @@ def main() -> int:
     import traceback
 
     if "--csv" in sys.argv[1:]:  # a CSV request is likely: load its reader while waiting
-        from .readers import preload_csv
-
-        preload_csv()
+        try:
+            import pandas  # noqa: F401
+        except ImportError:
+            pass
     try:
         request = sys.stdin.buffer.read()
         if not request:  # no request came (the parent ended early)
