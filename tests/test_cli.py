@@ -237,6 +237,38 @@ def test_python_dash_m(repo):
     assert "check" in proc.stdout
 
 
+def test_quick_exit_is_hooked_once_and_only_at_exit(monkeypatch):
+    import atexit
+    import gc
+
+    from clashcheck import cli
+
+    hooked = []
+    monkeypatch.setattr(atexit, "register", lambda fn, *a, **k: hooked.append(fn))
+    monkeypatch.setattr(cli, "_EXIT_HOOKED", False)
+    cli._quick_exit()
+    cli._quick_exit()
+    assert hooked == [gc.freeze]  # once per process; nothing frozen before the exit
+    assert gc.isenabled()
+
+
+def test_command_output_is_complete_after_the_quick_exit(runner, repo, tmp_path):
+    # the objects are frozen at exit, not collected: the output file and stdout of
+    # a real process must be whole, the same as in this process, with the same exit code
+    build = str(repo / "examples" / "freestyle-5in.toml")
+    env = {"CLASHCHECK_CACHE_DIR": str(tmp_path / "c"), "PATH": ""}
+    out = tmp_path / "r.json"
+    proc = subprocess.run([sys.executable, "-m", "clashcheck", "check", build, "--format", "json",
+                           "--output", str(out)], capture_output=True, text=True, cwd=repo, timeout=60,
+                          env=env)
+    here = runner.invoke(main, ["check", build, "--format", "json"])
+    assert proc.returncode == here.exit_code == 1, proc.stderr  # the demo build clashes (README)
+    assert json.loads(out.read_text(encoding="utf-8")) == json.loads(here.stdout)
+    table = subprocess.run([sys.executable, "-m", "clashcheck", "check", build], capture_output=True,
+                           text=True, cwd=repo, timeout=60, env=env)
+    assert table.stdout == runner.invoke(main, ["check", build]).stdout
+
+
 def test_check_does_not_import_scipy_or_matplotlib(repo, tmp_path):
     # issue 2 §9: `clashcheck check` on the demo build imports neither scipy nor matplotlib.
     # The first run with an empty cache imports pint, and pint itself imports scipy when it is

@@ -135,6 +135,21 @@ def test_throttle_with_a_drive_model_measures_orders(tmp_path):
     assert [(o.order, o.family) for o in result.orders][:2] == [(1.0, "rotor"), (2.0, "custom")]
 
 
+def test_without_the_timeline_the_numbers_are_the_same(tmp_path):
+    # the time figure's spectrogram is kept only on request (the command line keeps it
+    # for --plot); the modes, orders and dwell do not depend on it
+    modes = [SynthMode(300.0, 0.03, (1.0, 1.0, 1.0))]
+    path = _npy(tmp_path / "k.npy", modes, ORDERS[:2], duration=40.0, seed=3)
+    kept = analyse_flight(open_recording(path, COLS), FlightSettings(blades=3, poles=14))
+    bare = analyse_flight(open_recording(path, COLS),
+                          FlightSettings(blades=3, poles=14, keep_timeline=False))
+    assert kept.view.times_s.size > 1 and kept.view.spectrogram.shape[0] == kept.view.times_s.size
+    assert bare.view.times_s.size == 0 and bare.view.spectrogram.size == 0
+    assert bare.modes == kept.modes and bare.orders == kept.orders and bare.dwell == kept.dwell
+    assert bare.modes  # the comparison is between two analyses that found the mode
+    np.testing.assert_array_equal(bare.view.stationary, kept.view.stationary)
+
+
 def test_needs_rotor_rate_or_throttle(tmp_path):
     path = _npy(tmp_path / "n.npy", [SynthMode(300.0, 0.03, (1.0, 1.0, 1.0))], [], duration=5.0)
     with pytest.raises(InputError, match="rpm_columns"):  # the library names its own field

@@ -84,7 +84,9 @@ def modes_command(recording: Path, kind: str, build_file: Path | None, axes: str
         from ..inputs.buildfile import load_build
 
         build = load_build(build_file)
-    plan = recording_plan(kind, build=build, axes=axes, include_candidates=include_candidates, **opts)
+    # the time figure's spectrogram is kept only when a figure is drawn
+    plan = recording_plan(kind, build=build, axes=axes, include_candidates=include_candidates,
+                          keep_timeline=plot_file is not None, **opts)
     rec = open_recording(recording, plan.columns)
     run: Callable[[Callable[[int, int], None]], ModesResult]
     if kind == "tap":

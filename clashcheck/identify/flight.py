@@ -153,6 +153,10 @@ class FlightSettings:
                                                                         compare=False)
     #: Width of a rotor-rate bin, relative (0.03 = 3 %).
     bin_width: float = 0.03
+    #: Keep the spectrogram against time that the time figure draws
+    #: (:class:`~.views.Timeline`); without it the view's timeline is empty and
+    #: the pass spends neither its time nor its memory (no number changes).
+    keep_timeline: bool = True
 
     def __post_init__(self) -> None:
         if not self.min_frequency_hz > 0:
@@ -759,8 +763,9 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
             stream: SegmentStream = state["stream"]
             for segs in stream.feed(run.run, run.signals, aux):
                 value, spread, lo, hi, is_rotor = key_of(segs.aux_mean)
-                timeline = timeline or Timeline(state["nper"] // 2 / state["fs"])
-                timeline.add(segs.psd[:, :, state["band"]].sum(axis=1), value)
+                if settings.keep_timeline:
+                    timeline = timeline or Timeline(state["nper"] // 2 / state["fs"])
+                    timeline.add(segs.psd[:, :, state["band"]].sum(axis=1), value)
                 live = value > (1.0 if is_rotor else 0.02)
                 if not live.any():
                     continue

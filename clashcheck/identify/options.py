@@ -76,6 +76,7 @@ def recording_plan(
     resolution: float | None = None,
     throttle_unit: str | None = None,
     include_candidates: bool = False,
+    keep_timeline: bool = True,
 ) -> RecordingPlan:
     """The column plan and settings for one recording, from the recording options.
 
@@ -115,6 +116,9 @@ def recording_plan(
         width); ``None`` = told from the values.
     include_candidates : bool, optional
         Keep peaks below the confidence floor among the modes (tap tests).
+    keep_timeline : bool, optional
+        Keep the spectrogram against time that a flight's time figure draws
+        (``FlightSettings.keep_timeline``); the numbers are the same without it.
 
     Returns
     -------
@@ -154,7 +158,8 @@ def recording_plan(
                                                         include_candidates=include_candidates, **band))
     from .flight import FlightSettings
 
-    extra: dict[str, Any] = {"blades": blades, "poles": poles, "slots": slots}
+    extra: dict[str, Any] = {"blades": blades, "poles": poles, "slots": slots,
+                             "keep_timeline": keep_timeline}
     if resolution is not None:
         extra.update(resolution_hz=resolution, resolution_given=True)
     if axes:

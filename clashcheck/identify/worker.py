@@ -8,6 +8,9 @@ processes they run side by side on two cores.  So for a long recording
 hands it the request, imports scipy while the child streams, and then finishes
 the analysis on the child's small totals (:class:`~.flight.StreamedFlight`).
 The numbers are the same as in one process: the child runs the same code.
+(One process with a CSV reader that parses outside the GIL, pyarrow's, in a
+thread was measured against this for issue 9: 12–27 % slower in four runs of
+``bench/bench_modes.py`` on its 10-minute file, so the second process stays.)
 
 Used when all of these hold (:func:`wanted`):
 
