@@ -177,3 +177,21 @@ def test_order_families():
     assert orders[2.0] == "blade" and any("both rotor and blade" in n for n in notes)
     orders, notes = order_families(None, None, None)
     assert orders[1.0] == "rotor" and orders[5.0] == "custom"
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_bin_median_equals_numpys_nanmedian(seed):
+    """The bins' median (one sort) gives numpy's ``nanmedian(axis=0)`` to the bit:
+    odd and even counts, NaN holes and all-NaN columns (reference: numpy)."""
+    import warnings
+
+    from clashcheck.identify.flight import _nanmedian_bins
+
+    rng = np.random.default_rng(seed)
+    shape = (int(rng.integers(1, 40)), *(int(n) for n in rng.integers(1, 20, size=int(rng.integers(1, 3)))))
+    a = rng.lognormal(size=shape)
+    a[rng.random(shape) < rng.random()] = np.nan
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)  # numpy warns on all-NaN columns
+        ref = np.nanmedian(a, axis=0)
+    assert np.array_equal(_nanmedian_bins(a), ref, equal_nan=True)

@@ -368,7 +368,7 @@ class Conditioner:
     # ------------------------------------------------------------ helpers
     def _account(self, sig: np.ndarray) -> None:
         self._rows_used += sig.shape[0]
-        self._sum += sig.sum(axis=0)
+        self._sum += np.einsum("ij->j", sig)
         self._sq += np.einsum("ij,ij->j", sig, sig)
         if self.rec.full_scale is not None:
             level = self.rec.full_scale * (1.0 - 5e-5)

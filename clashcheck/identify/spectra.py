@@ -263,7 +263,8 @@ class SegmentStream:
             return np.zeros((0, nseg))
         r, rest = divmod(self.nperseg, self.hop)
         if rest == 0:  # a segment is r whole hops: add the hops' sums (no running sum)
-            hops = aux[: (nseg + r - 1) * self.hop].reshape(nseg + r - 1, self.hop, -1).sum(axis=1)
+            hops = aux[: (nseg + r - 1) * self.hop].reshape(nseg + r - 1, self.hop, -1)
+            hops = np.einsum("ijk->ik", hops)
             sums = hops[:nseg].copy()
             for i in range(1, r):
                 sums += hops[i:i + nseg]
