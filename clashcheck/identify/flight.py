@@ -487,7 +487,15 @@ def _log_background(total: np.ndarray, df: float) -> tuple[np.ndarray, np.ndarra
     np.cumsum(logp, axis=1, out=c[:, 1:])
     i = np.arange(nf)
     lo, hi = np.maximum(i - w, 0), np.minimum(i + w + 1, nf)
-    return logp, (c[:, hi] - c[:, lo]) / (hi - lo)
+    if nf <= 2 * w + 1:
+        return logp, (c[:, hi] - c[:, lo]) / (hi - lo)
+    # the same differences, as slices where the window is whole (no gather)
+    mean = np.empty((nseg, nf))
+    np.subtract(c[:, 2 * w + 1:], c[:, : nf - 2 * w], out=mean[:, w:nf - w])
+    mean[:, w:nf - w] /= float(2 * w + 1)
+    ends = np.r_[0:w, nf - w:nf]  # where the window is cut
+    mean[:, ends] = (c[:, hi[ends]] - c[:, lo[ends]]) / (hi[ends] - lo[ends])
+    return logp, mean
 
 
 def _harmonic_rate(white: np.ndarray, df: float, pred: np.ndarray, orders: np.ndarray,
