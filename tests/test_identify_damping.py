@@ -70,6 +70,25 @@ def test_stationary_model_equals_the_mean_periodogram():
     assert np.std(ratio) / np.mean(ratio) < 0.05
 
 
+def test_stationary_model_keeps_recent_shapes_unchanged():
+    # a shape asked for again is the one computed before, bit for bit, and no caller
+    # can write into it; one evicted by many others is computed again alike
+    fs, nper = 2000.0, 256
+    model = stationary_model(fs, signal.get_window("hann", nper), 2 * nper)
+    first = model(150.0, 0.02)
+    kept = first.copy()
+    assert model(150.0, 0.02) is first
+    with pytest.raises(ValueError):
+        first[0] = 0.0
+    for k in range(40):  # more shapes than are kept
+        model(100.0 + k, 0.03)
+    again = model(150.0, 0.02)
+    assert again is not first
+    assert np.array_equal(again, kept)
+    fresh = stationary_model(fs, signal.get_window("hann", nper), 2 * nper)(150.0, 0.02)
+    assert np.array_equal(fresh, kept)
+
+
 def test_window_correction_on_a_coarse_welch_spectrum():
     # resolution 7.8 Hz against a half-power width of 2ζf = 9 Hz: the raw reading is
     # widened by the Hann window; the corrected one is not (known ζ, generated signal)

@@ -44,6 +44,7 @@ logarithmic decrement relation ζ = δ/√(4π² + δ²) with δ = σ·2π/ω_d
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -338,9 +339,16 @@ def stationary_model(
     where = np.where(keep, lag, 0)
     lags_s = np.arange(n) / sample_rate_hz
 
+    # a fit asks for the same (fₙ, ζ) again: the finite-difference Jacobian moves the
+    # level, slope and floor at the same shape, and a refinement restarts where the
+    # half-power estimate ended; a few recent shapes are kept (read-only, so no caller
+    # can change a kept one)
+    @functools.lru_cache(maxsize=16)
     def model(fn_hz: float, zeta: float) -> np.ndarray:
         c = _sdof_autocorr(lags_s, fn_hz, zeta)[where] * rw_kept
-        return np.fft.rfft(c).real[::m][: nfft // 2 + 1]
+        out = np.fft.rfft(c).real[::m][: nfft // 2 + 1]
+        out.flags.writeable = False
+        return out
 
     return model
 
