@@ -1035,9 +1035,7 @@ def _finish(recording: Recording, settings: FlightSettings, plan: _Plan,
         whole = enough[:, near].mean(axis=1) >= 0.75 if near.any() else np.ones(len(counts_all), bool)
         share = float(counts_all[whole].sum() / counts_all.sum())
         if whole.sum() >= 3 and not whole.all():
-            with _pywarnings.catch_warnings():
-                _pywarnings.simplefilter("ignore", RuntimeWarning)
-                local = _nanmedian_bins(normed[whole, ch, :])
+            local = _nanmedian_bins(normed[whole, ch, :])  # NaN where all are masked, no warning
             spec = np.where(np.isfinite(local), local, spec)
         hp = corrected_half_power(freq, spec, pk.index, model, rel_error=rel_err)
         if hp is None and spec is not stationary[ch]:
