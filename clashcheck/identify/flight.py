@@ -725,32 +725,37 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
         f = state["fband"]
         keep = np.ones((nseg, f.size))
         sel = np.ones(nseg, bool) if rows_in is None else rows_in
-        rows = np.arange(nseg)
+        # every order at once: (orders, segments) arrays
+        flo, fhi = _line_bounds(mask_orders[:, None], lo, hi, spread, line_hw, df)
+        live = sel & np.isfinite(flo) & (flo < f[-1]) & (fhi > f[0])
+        if not live.any():
+            return keep
+        # the line's top against the local background, per order and segment (rows
+        # without a rate, NaN, are left unmasked): the maximum of each row's bins
+        # a_i..b_i, one reduceat over the flattened rows; reduceat takes no bound at
+        # the array's end, so a stretch that runs there stops one short and takes
+        # the last bin in afterwards
+        a_i = np.clip(np.rint(np.nan_to_num(flo / df)).astype(int), 0, nf - 1)
+        b_i = np.clip(np.rint(np.nan_to_num(fhi / df)).astype(int), 0, nf - 1)
         flat = logp.reshape(-1)
-        bounds = np.empty(2 * nseg, dtype=np.intp)
-        for k in mask_orders:
-            flo, fhi = _line_bounds(k, lo, hi, spread, line_hw, df)
-            live = sel & np.isfinite(flo) & (flo < f[-1]) & (fhi > f[0])
-            if not live.any():
-                continue
-            # the line's top against the local background, per segment (rows
-            # without a rate, NaN, are left unmasked): the maximum of each row's
-            # bins a_i..b_i, one reduceat over the flattened rows (the final
-            # stretch runs to the array's end, where reduceat takes no bound)
-            a_i = np.clip(np.rint(np.nan_to_num(flo / df)).astype(int), 0, nf - 1)
-            b_i = np.clip(np.rint(np.nan_to_num(fhi / df)).astype(int), 0, nf - 1)
-            bounds[0::2] = rows * nf + a_i
-            bounds[1::2] = rows * nf + b_i + 1
-            top = np.maximum.reduceat(flat, bounds[:-1] if bounds[-1] == flat.size
-                                      else bounds)[0::2]
-            mid = (a_i + b_i) // 2
-            r_db = (top - logbg[rows, mid]) * (10.0 / math.log(10.0)) + 3.0
-            d_res = np.clip(2.5 * 2.0 ** ((r_db - 31.5) / 18.0), 2.0, 12.0)
-            extra = (d_res - 2.0) * res
-            a = np.searchsorted(f, flo - extra)
-            b = np.searchsorted(f, fhi + extra, side="right")
-            for r in np.flatnonzero(live & (b > a)):
-                keep[r, a[r]:b[r]] = 0.0
+        start = np.arange(nseg) * nf + a_i
+        end = start - a_i + b_i + 1
+        bounds = np.empty(2 * start.size, dtype=np.intp)
+        bounds[0::2] = start.ravel()
+        bounds[1::2] = np.minimum(end, flat.size - 1).ravel()
+        top = np.maximum.reduceat(flat, bounds)[0::2].reshape(start.shape)
+        at_end = end == flat.size
+        top[at_end] = np.maximum(top[at_end], flat[-1])
+        mid = (a_i + b_i) // 2
+        r_db = (top - logbg[np.arange(nseg), mid]) * (10.0 / math.log(10.0)) + 3.0
+        d_res = np.clip(2.5 * 2.0 ** ((r_db - 31.5) / 18.0), 2.0, 12.0)
+        extra = (d_res - 2.0) * res
+        a = np.searchsorted(f, flo - extra)
+        b = np.searchsorted(f, fhi + extra, side="right")
+        masked = live & (b > a)
+        _, rows = np.nonzero(masked)
+        for r, x, y in zip(rows.tolist(), a[masked].tolist(), b[masked].tolist()):
+            keep[r, x:y] = 0.0
         return keep
 
     for block in recording.blocks():
