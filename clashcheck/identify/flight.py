@@ -459,9 +459,10 @@ class StreamedFlight:
     timeline: Timeline | None = None
 
 
-def _line_bounds(k: float, lo: np.ndarray, hi: np.ndarray, spread: np.ndarray,
+def _line_bounds(k: float | np.ndarray, lo: np.ndarray, hi: np.ndarray, spread: np.ndarray,
                  line_hw: float, df: float) -> tuple[np.ndarray, np.ndarray]:
-    """Frequency range [Hz] of order ``k``'s line in each segment.
+    """Frequency range [Hz] of order ``k``'s line in each segment (orders as a column
+    give one row per order).
 
     The range covers every motor's line (``lo``..``hi`` are the slowest and
     fastest motor's mean rate), the window's main lobe (``line_hw``) and the
