@@ -739,8 +739,9 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
         a_i = np.clip(np.rint(np.nan_to_num(flo / df)).astype(int), 0, nf - 1)
         b_i = np.clip(np.rint(np.nan_to_num(fhi / df)).astype(int), 0, nf - 1)
         flat = logp.reshape(-1)
-        start = np.arange(nseg) * nf + a_i
-        end = start - a_i + b_i + 1
+        seg = np.arange(nseg)
+        start = seg * nf + a_i
+        end = seg * nf + b_i + 1
         bounds = np.empty(2 * start.size, dtype=np.intp)
         bounds[0::2] = start.ravel()
         bounds[1::2] = np.minimum(end, flat.size - 1).ravel()
@@ -748,7 +749,7 @@ def stream_flight(recording: Recording, settings: FlightSettings = FlightSetting
         at_end = end == flat.size
         top[at_end] = np.maximum(top[at_end], flat[-1])
         mid = (a_i + b_i) // 2
-        r_db = (top - logbg[np.arange(nseg), mid]) * (10.0 / math.log(10.0)) + 3.0
+        r_db = (top - logbg[seg, mid]) * (10.0 / math.log(10.0)) + 3.0
         d_res = np.clip(2.5 * 2.0 ** ((r_db - 31.5) / 18.0), 2.0, 12.0)
         extra = (d_res - 2.0) * res
         a = np.searchsorted(f, flo - extra)
